@@ -1,0 +1,19 @@
+//! polyflat flattens polygon meshes (quads, hexagons, mixed n-gons, non-planar
+//! faces) into packed UV layouts without triangulating them.
+//!
+//! Data flows one way: [`io`] (OBJ ⇄ [`mesh::PolyMesh`]) → [`mesh`] (connectivity,
+//! validation) → [`charts`] (seams, cutting to disks) → [`operators`] (per-face
+//! matrices, global assembly) → [`flatten`] (energies, initialisers, solvers) →
+//! [`pack`] → [`metrics`] → outputs ([`io`], [`atlas`], [`report`]). The command
+//! line, batch runner and HTTP service all call [`pipeline`].
+
+pub mod cli;
+pub mod error;
+pub mod mesh;
+pub mod operators;
+pub mod progress;
+pub mod settings;
+
+pub use error::{Error, Result};
+pub use mesh::PolyMesh;
+pub use settings::Settings;

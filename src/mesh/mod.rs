@@ -1,0 +1,5 @@
+//! Mesh model, connectivity and validation.
+
+mod polymesh;
+
+pub use polymesh::PolyMesh;
