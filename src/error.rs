@@ -37,6 +37,9 @@ pub enum Error {
     /// An option has a value out of range; the message names the option.
     #[error("{0}")]
     Settings(String),
+    /// The charts cannot be packed; the message names the chart or the option to change.
+    #[error("{0}")]
+    Pack(String),
     /// The solver could not produce a valid layout for a chart.
     #[error("chart {chart}: {message}")]
     Solve {

@@ -11,6 +11,7 @@ pub mod cli;
 pub mod error;
 pub mod mesh;
 pub mod operators;
+pub mod pack;
 pub mod progress;
 pub mod settings;
 
