@@ -7,10 +7,12 @@
 //! [`pack`] → [`metrics`] → outputs ([`io`], [`atlas`], [`report`]). The command
 //! line, batch runner and HTTP service all call [`pipeline`].
 
+pub mod atlas;
 pub mod cli;
 pub mod error;
 pub mod mesh;
 pub mod operators;
+pub mod preview;
 pub mod progress;
 pub mod settings;
 
