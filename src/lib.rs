@@ -10,6 +10,7 @@
 pub mod cli;
 pub mod error;
 pub mod mesh;
+pub mod metrics;
 pub mod operators;
 pub mod progress;
 pub mod settings;
