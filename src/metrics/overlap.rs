@@ -48,6 +48,7 @@ struct Polygons {
     offsets: Vec<usize>,
     points: Vec<Point2<f64>>,
     boxes: Vec<[f64; 4]>,
+    convex: Vec<bool>,
 }
 
 impl Polygons {
@@ -137,12 +138,14 @@ pub(crate) fn overlapping_pairs_among(
         offsets: vec![0],
         points: Vec::new(),
         boxes: Vec::new(),
+        convex: Vec::new(),
     };
     for (f, p) in polys {
         if signed_area(&p).abs() <= tol * tol {
             continue;
         }
         set.boxes.push(bounding_box(&p));
+        set.convex.push(is_convex(&p));
         set.face.push(f);
         set.points.extend_from_slice(&p);
         set.offsets.push(set.points.len());
@@ -164,7 +167,13 @@ pub(crate) fn overlapping_pairs_among(
                     if grid.cell_of(lo_x, lo_y) != cell {
                         continue;
                     }
-                    if interiors_intersect(set.poly(i), set.poly(j), tol) {
+                    let (p, q) = (set.poly(i), set.poly(j));
+                    let overlap = if set.convex[i] && set.convex[j] {
+                        convex_interiors_intersect(p, q, tol)
+                    } else {
+                        interiors_intersect(p, q, tol)
+                    };
+                    if overlap {
                         let (f, g) = (set.face[i], set.face[j]);
                         found.push((f.min(g), f.max(g)));
                     }
@@ -394,6 +403,59 @@ fn boundary_against(p: &[Point2<f64>], q: &[Point2<f64>], tol: f64) -> (bool, bo
     (false, all_on)
 }
 
+/// Convex and simple: every turn has the same sign (or is straight) and the edge
+/// directions go around once (their x-components change sign at most twice, which
+/// rules out star-shaped self-intersections).
+fn is_convex(poly: &[Point2<f64>]) -> bool {
+    let n = poly.len();
+    let mut orientation = 0.0;
+    let mut signs: Vec<bool> = Vec::with_capacity(n);
+    for i in 0..n {
+        let e0 = poly[(i + 1) % n] - poly[i];
+        let e1 = poly[(i + 2) % n] - poly[(i + 1) % n];
+        let turn = cross(e0, e1);
+        if turn != 0.0 {
+            if orientation == 0.0 {
+                orientation = turn.signum();
+            } else if turn.signum() != orientation {
+                return false;
+            }
+        }
+        if e0.x != 0.0 {
+            signs.push(e0.x > 0.0);
+        }
+    }
+    let changes = (0..signs.len())
+        .filter(|&k| signs[k] != signs[(k + 1) % signs.len()])
+        .count();
+    changes <= 2
+}
+
+/// Interiors of two convex polygons intersect unless an edge normal separates them
+/// (separating axis theorem), projections overlapping by at most `tol`.
+fn convex_interiors_intersect(p: &[Point2<f64>], q: &[Point2<f64>], tol: f64) -> bool {
+    let project = |poly: &[Point2<f64>], axis: Vector2<f64>| {
+        poly.iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+                let t = v.coords.dot(&axis);
+                (lo.min(t), hi.max(t))
+            })
+    };
+    for (a, b) in edges(p).chain(edges(q)) {
+        let axis = Vector2::new(a.y - b.y, b.x - a.x);
+        let len = axis.norm();
+        if len <= tol {
+            continue;
+        }
+        let (p_lo, p_hi) = project(p, axis);
+        let (q_lo, q_hi) = project(q, axis);
+        if p_hi.min(q_hi) - p_lo.max(q_lo) <= tol * len {
+            return false;
+        }
+    }
+    true
+}
+
 /// Whether the interiors of two UV polygons intersect (see the module docs).
 fn interiors_intersect(p: &[Point2<f64>], q: &[Point2<f64>], tol: f64) -> bool {
     for (a, b) in edges(p) {
@@ -424,30 +486,68 @@ mod tests {
         ]
     }
 
+    /// Both predicates when both polygons are convex, else the general one.
+    fn intersect(p: &[Point2<f64>], q: &[Point2<f64>], tol: f64) -> bool {
+        let general = interiors_intersect(p, q, tol);
+        if is_convex(p) && is_convex(q) {
+            assert_eq!(convex_interiors_intersect(p, q, tol), general);
+        }
+        general
+    }
+
+    #[test]
+    fn convexity_test() {
+        assert!(is_convex(&square(0.0, 0.0, 1.0)));
+        let mut cw = square(0.0, 0.0, 1.0);
+        cw.reverse();
+        assert!(is_convex(&cw));
+        let with_straight_corner = [
+            Point2::new(0.0, 0.0),
+            Point2::new(1.0, 0.0),
+            Point2::new(2.0, 0.0),
+            Point2::new(2.0, 1.0),
+        ];
+        assert!(is_convex(&with_straight_corner));
+        let dart = [
+            Point2::new(0.0, 0.0),
+            Point2::new(1.0, 0.0),
+            Point2::new(0.2, 0.2),
+            Point2::new(0.0, 1.0),
+        ];
+        assert!(!is_convex(&dart));
+        let pentagram: Vec<Point2<f64>> = (0..5)
+            .map(|k| {
+                let t = std::f64::consts::TAU * (2 * k) as f64 / 5.0;
+                Point2::new(t.cos(), t.sin())
+            })
+            .collect();
+        assert!(!is_convex(&pentagram));
+    }
+
     // Expected values: analytic (plane geometry of the listed polygons).
     #[test]
     fn interior_test_cases() {
         let tol = 1e-9;
         let unit = square(0.0, 0.0, 1.0);
         // Same region twice, also with reversed orientation.
-        assert!(interiors_intersect(&unit, &unit, tol));
+        assert!(intersect(&unit, &unit, tol));
         let reversed: Vec<_> = unit.iter().rev().copied().collect();
-        assert!(interiors_intersect(&unit, &reversed, tol));
+        assert!(intersect(&unit, &reversed, tol));
         // Strictly nested.
-        assert!(interiors_intersect(&unit, &square(0.25, 0.25, 0.5), tol));
+        assert!(intersect(&unit, &square(0.25, 0.25, 0.5), tol));
         // Nested and sharing a corner and two edge pieces.
-        assert!(interiors_intersect(&unit, &square(0.0, 0.0, 0.5), tol));
+        assert!(intersect(&unit, &square(0.0, 0.0, 0.5), tol));
         // Triangle inscribed in the square on its corners: only its diagonal is inside.
         let tri = [
             Point2::new(0.0, 0.0),
             Point2::new(1.0, 0.0),
             Point2::new(1.0, 1.0),
         ];
-        assert!(interiors_intersect(&unit, &tri, tol));
+        assert!(intersect(&unit, &tri, tol));
         // Sharing an edge, or a corner, or part of an edge: no overlap.
-        assert!(!interiors_intersect(&unit, &square(1.0, 0.0, 1.0), tol));
-        assert!(!interiors_intersect(&unit, &square(1.0, 1.0, 1.0), tol));
-        assert!(!interiors_intersect(&unit, &square(1.0, 0.5, 0.3), tol));
+        assert!(!intersect(&unit, &square(1.0, 0.0, 1.0), tol));
+        assert!(!intersect(&unit, &square(1.0, 1.0, 1.0), tol));
+        assert!(!intersect(&unit, &square(1.0, 0.5, 0.3), tol));
         // A thin cross: edges cross, no corner of either is inside the other.
         let bar_x = [
             Point2::new(-1.0, 0.4),
@@ -461,7 +561,7 @@ mod tests {
             Point2::new(0.6, 2.0),
             Point2::new(0.4, 2.0),
         ];
-        assert!(interiors_intersect(&bar_x, &bar_y, tol));
+        assert!(intersect(&bar_x, &bar_y, tol));
         // An edge passing exactly through the other's corners (no proper crossing).
         let diamond = [
             Point2::new(0.5, -0.5),
@@ -469,7 +569,7 @@ mod tests {
             Point2::new(0.5, 1.5),
             Point2::new(-0.5, 0.5),
         ];
-        assert!(interiors_intersect(&unit, &diamond, tol));
+        assert!(intersect(&unit, &diamond, tol));
         // Non-convex L shape with a square in its notch, touching along two edges.
         let l_shape = [
             Point2::new(0.0, 0.0),
@@ -479,7 +579,7 @@ mod tests {
             Point2::new(1.0, 2.0),
             Point2::new(0.0, 2.0),
         ];
-        assert!(!interiors_intersect(&l_shape, &square(1.0, 1.0, 1.0), tol));
-        assert!(interiors_intersect(&l_shape, &square(0.9, 0.9, 1.0), tol));
+        assert!(!intersect(&l_shape, &square(1.0, 1.0, 1.0), tol));
+        assert!(intersect(&l_shape, &square(0.9, 0.9, 1.0), tol));
     }
 }

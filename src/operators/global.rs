@@ -17,7 +17,7 @@
 //! makes the whole call fail with [`Error::Mesh`] naming the lowest such face.
 
 use faer::sparse::{SparseColMat, Triplet};
-use nalgebra::{DMatrix, Point3};
+use nalgebra::{DMatrix, Matrix3, Point3};
 use rayon::prelude::*;
 
 use super::face::{self, FaceError};
@@ -125,20 +125,17 @@ pub fn gradient(mesh: &PolyMesh) -> Result<SparseColMat<usize, f64>> {
     assemble(3 * mesh.face_count(), mesh.vertex_count(), &triplets)
 }
 
-/// Local Laplacian `L_f(λ) = D_fᵀ M_f(λ) D_f = A_f G_fᵀ G_f + λ (P_f D_f)ᵀ (P_f D_f)`
-/// (n×n, symmetric positive semi-definite) of one face's corners.
+/// Local Laplacian `L_f(λ) = D_fᵀ M_f(λ) D_f = A_f G_fᵀ G_f + λ Q_fᵀ Q_f` (n×n,
+/// symmetric positive semi-definite) of one face's corners, where
+/// `Q_f = P_f D_f = D_f − V_f G_f` (since `P_f = I − V_f U_f` and `G_f = U_f D_f`).
 fn local_laplacian(corners: &[Point3<f64>], lambda: f64) -> Result<DMatrix<f64>, FaceError> {
-    let n = corners.len();
-    let (area, _) = face::area_normal(corners)?;
-    let d = face::difference(n);
-    let u = face::sharp(corners)?;
-    let g = &u * &d;
-    let p = DMatrix::identity(n, n) - face::flat(corners)? * &u;
-    let pd = p * d;
-    let mut l = g.transpose() * &g * area + pd.transpose() * &pd * lambda;
+    let (area, normal) = face::area_normal(corners)?;
+    let g = face::gradient(corners)?;
+    let flat = face::edges(corners) * (Matrix3::identity() - normal * normal.transpose());
+    let q = face::difference(corners.len()) - flat * &g;
+    let l = g.transpose() * &g * area + q.transpose() * &q * lambda;
     // Symmetric in exact arithmetic; remove round-off asymmetry.
-    l = (&l + l.transpose()) * 0.5;
-    Ok(l)
+    Ok((&l + l.transpose()) * 0.5)
 }
 
 /// Global Laplacian `L(λ) = Σ_f D_fᵀ M_f(λ) D_f` (V×V), scattered to vertex indices.
