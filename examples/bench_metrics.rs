@@ -3,7 +3,7 @@
 //! Usage: `cargo run --release --example bench_metrics [SIDE]` (default SIDE = 317,
 //! i.e. 100,489 quads). The grid is non-planar (a smooth bump) with jittered
 //! vertices; its UVs are the jittered plane coordinates scaled into the unit square,
-//! so the layout has no overlaps.
+//! so the layout has no overlaps; a second overlap run adds a shifted copy of it.
 
 use std::time::Instant;
 
@@ -90,6 +90,33 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let summary = metrics::summarize(&mesh, &per_face, None);
     println!("summarize       {:8.1} ms  (includes overlaps)", ms(t));
     println!("{}", serde_json::to_string_pretty(&summary)?);
+
+    // Worst case for the overlap test: the layout plus a copy shifted by half a cell
+    // diagonally, so every face of the copy overlaps up to four faces.
+    let count = mesh.uvs.len() as u32;
+    let half = 0.5 / side as f64;
+    let mut uvs = mesh.uvs.clone();
+    uvs.extend(mesh.uvs.iter().map(|p| Point2::new(p.x + half, p.y + half)));
+    let copies: Vec<Vec<u32>> = faces
+        .iter()
+        .chain(faces.iter())
+        .enumerate()
+        .map(|(k, f)| {
+            f.iter()
+                .map(|&v| v + if k < faces.len() { 0 } else { count })
+                .collect()
+        })
+        .collect();
+    let doubled = PolyMesh::from_faces(mesh.positions.clone(), &[faces.clone(), faces].concat());
+    let corners: Vec<u32> = copies.concat();
+    let t = Instant::now();
+    let pairs = metrics::overlapping_face_pairs(&uvs, &corners, &doubled);
+    println!(
+        "overlaps        {:8.1} ms  ({} faces, layout + shifted copy: {} pairs)",
+        ms(t),
+        doubled.face_count(),
+        pairs.len()
+    );
     Ok(())
 }
 

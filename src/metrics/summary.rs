@@ -40,7 +40,7 @@ pub struct Metrics {
 }
 
 /// Summarises `face_metrics` (from [`super::face_metrics`]) over `faces` (all faces
-/// when `None`; indices without metrics are ignored), with the global scale taken
+/// when `None`; each face listed once; indices without metrics are ignored), with the global scale taken
 /// over those faces. Overlaps are counted between pairs of those faces, in the
 /// layout `mesh.uvs` / `mesh.corner_uvs`, which must be the one the metrics were
 /// computed from (a mesh without corner UVs has no overlaps).
