@@ -11,6 +11,7 @@ pub mod atlas;
 pub mod cli;
 pub mod error;
 pub mod mesh;
+pub mod metrics;
 pub mod operators;
 pub mod preview;
 pub mod progress;
