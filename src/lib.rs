@@ -9,6 +9,7 @@
 
 pub mod cli;
 pub mod error;
+pub mod io;
 pub mod mesh;
 pub mod operators;
 pub mod progress;
