@@ -14,13 +14,14 @@ fn cases() -> usize {
     std::env::var("POLYFLAT_FUZZ_CASES")
         .ok()
         .and_then(|s| s.parse().ok())
-        .unwrap_or(2000)
+        .unwrap_or(3000)
 }
 
-/// Parses `text`; on success checks the mesh's invariants and runs the downstream stages.
-fn exercise(text: &str) {
+/// Parses `text`; on success checks the mesh's invariants, runs the downstream stages
+/// and returns true.
+fn exercise(text: &str) -> bool {
     let Ok(obj) = parse_obj(text, "fuzz.obj") else {
-        return;
+        return false;
     };
     let m = &obj.mesh;
     assert_eq!(m.face_offsets.first(), Some(&0));
@@ -46,6 +47,7 @@ fn exercise(text: &str) {
     let again = parse_obj(&written, "again.obj").expect("written OBJ must parse");
     assert_eq!(again.mesh.face_vertices, m.face_vertices);
     assert_eq!(again.mesh.positions, m.positions);
+    true
 }
 
 #[test]
@@ -56,6 +58,8 @@ fn random_bytes_never_panic() {
         let bytes: Vec<u8> = (0..len).map(|_| rng.random()).collect();
         exercise(&String::from_utf8_lossy(&bytes));
     }
+    // Control: the empty input is a valid, empty mesh.
+    assert!(exercise(""));
 }
 
 #[test]
@@ -110,21 +114,47 @@ fn token_soups_never_panic() {
         "1.5",
         "+2",
     ];
+    // Tokens that are valid in most positions after the square prefix below.
+    const GOOD: &[&str] = &[
+        "1", "2", "3", "4", "5", "-1", "-2", "-3", "1/1", "2/2", "3/3", "4/1/1", "5//1", "0.5",
+    ];
     let mut rng = ChaCha8Rng::seed_from_u64(2);
+    let mut meshes_with_faces = 0;
     for case in 0..cases() {
         let mut text = String::new();
-        // Half the cases start from a valid square so that faces often succeed.
-        if case % 2 == 0 {
+        // Half the soups use tame keywords and tokens so that they often form faces.
+        let tame = rng.random_bool(0.5);
+        let (pool, keywords, arity): (&[&str], &[&str], _) = if tame {
+            (GOOD, &["f", "f", "g", "#", ""], 3..6)
+        } else {
+            (
+                TOKENS,
+                &["f", "f", "f", "v", "vt", "vn", "l", "g", "#", ""],
+                0..7,
+            )
+        };
+        // Tame soups and every other wild one start from valid vertices.
+        if tame || case % 2 == 0 {
             text.push_str("v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nv 0.5 0.5 1\nvt 0 0\nvt 1 0\nvt 1 1\nvn 0 0 1\n");
         }
-        for _ in 0..rng.random_range(1..60) {
-            text.push_str(TOKENS[rng.random_range(0..TOKENS.len())]);
-            if rng.random_bool(0.7) {
-                text.push(' ');
+        // Lines that usually start with a keyword (faces most often), then a few tokens.
+        for _ in 0..rng.random_range(1..8) {
+            text.push_str(keywords[rng.random_range(0..keywords.len())]);
+            for _ in 0..rng.random_range(arity.clone()) {
+                text.push(if rng.random_bool(0.9) { ' ' } else { '\t' });
+                text.push_str(pool[rng.random_range(0..pool.len())]);
             }
+            text.push_str(if rng.random_bool(0.8) { "\n" } else { "\r\n" });
         }
-        exercise(&text);
+        if exercise(&text) && parse_obj(&text, "f.obj").is_ok_and(|o| o.mesh.face_count() > 0) {
+            meshes_with_faces += 1;
+        }
     }
+    // The soups must reach the face code, not only the error paths.
+    assert!(
+        meshes_with_faces > cases() / 50,
+        "{meshes_with_faces} meshes with faces"
+    );
 }
 
 #[test]
@@ -132,6 +162,7 @@ fn structured_faces_never_panic() {
     // Well-formed statements with random indices: exercises topology on odd meshes
     // (repeated edges, non-manifold fans, inconsistent winding, isolated vertices).
     let mut rng = ChaCha8Rng::seed_from_u64(3);
+    let mut parsed = 0;
     for _ in 0..cases() / 4 {
         let nv = rng.random_range(3..12);
         let mut text = String::new();
@@ -150,6 +181,8 @@ fn structured_faces_never_panic() {
             }
             text.push('\n');
         }
-        exercise(&text);
+        parsed += usize::from(exercise(&text));
     }
+    // Most of these are valid OBJ (distinct corners, random non-degenerate positions).
+    assert!(parsed > cases() / 8, "{parsed} of {} parsed", cases() / 4);
 }

@@ -70,7 +70,7 @@ pub struct Topology {
     /// Vertices that no face uses.
     pub isolated_vertices: Vec<u32>,
     /// Indices into `boundary_loops` of loops that pass through a vertex more than once,
-    /// with that vertex.
+    /// with that vertex (vertices on non-manifold edges excepted).
     pub pinched_loops: Vec<(u32, u32)>,
 }
 
@@ -387,6 +387,16 @@ impl Topology {
             }
         }
 
+        // Vertices on an edge with more than two faces: a loop through them twice is a
+        // consequence of that edge (reported on its own), not a pinch.
+        let mut on_non_manifold_edge = vec![false; vertex_slots];
+        for &e in &self.non_manifold_edges {
+            for &v in self.edge_vertices.get(e as usize).into_iter().flatten() {
+                if let Some(flag) = on_non_manifold_edge.get_mut(v as usize) {
+                    *flag = true;
+                }
+            }
+        }
         let mut used = vec![false; corner_count];
         let mut loops = Vec::new();
         let mut loop_components = Vec::new();
@@ -452,7 +462,14 @@ impl Topology {
                 .unwrap_or(NONE);
             let mut seen = loop_vertices.clone();
             seen.sort_unstable();
-            if let Some(w) = seen.windows(2).find(|w| w[0] == w[1]) {
+            let pinch = seen.windows(2).find(|w| {
+                w[0] == w[1]
+                    && !on_non_manifold_edge
+                        .get(w[0] as usize)
+                        .copied()
+                        .unwrap_or(false)
+            });
+            if let Some(w) = pinch {
                 pinched.push((loops.len() as u32, w[0]));
             }
             loops.push(loop_vertices);
