@@ -263,6 +263,13 @@ fn blocking_problems_exit_1_and_list_every_problem() {
     for p in &problems {
         assert!(text.contains(p), "{text}");
     }
+    let quiet = polyflat(&["inspect", "--quiet", path.to_str().unwrap()]);
+    assert_eq!(quiet.status.code(), Some(1));
+    assert!(quiet.stdout.is_empty());
+    let quiet_err = String::from_utf8(quiet.stderr).unwrap();
+    for p in &problems {
+        assert!(quiet_err.contains(p), "{quiet_err}");
+    }
     let err = String::from_utf8(human.stderr).unwrap();
     assert_eq!(
         err,
