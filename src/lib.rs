@@ -10,6 +10,7 @@
 pub mod atlas;
 pub mod cli;
 pub mod error;
+pub mod io;
 pub mod mesh;
 pub mod metrics;
 pub mod operators;
