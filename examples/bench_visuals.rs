@@ -15,7 +15,9 @@ use polyflat::PolyMesh;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
-fn main() -> Result<(), Box<dyn std::error::Error>> {
+type Error = Box<dyn std::error::Error>;
+
+fn main() -> Result<(), Error> {
     let (mesh, uvs) = torus(320, 320);
     let corner_uvs = mesh.corner_uvs.clone().unwrap_or_default();
     let metrics = face_metrics(&mesh, &uvs, &corner_uvs);
@@ -203,7 +205,7 @@ fn fixtures() -> Option<PathBuf> {
 }
 
 /// Reads `v`, `vt` and `f` records (`v`, `v/vt`, `v/vt/vn`, `v//vn`; 1-based).
-fn read_obj(path: &Path) -> Result<(PolyMesh, Vec<Point2<f64>>), Box<dyn std::error::Error>> {
+fn read_obj(path: &Path) -> Result<(PolyMesh, Vec<Point2<f64>>), Error> {
     let text = std::fs::read_to_string(path)?;
     let (mut positions, mut uvs, mut faces, mut corner_uvs) =
         (Vec::new(), Vec::new(), Vec::new(), Vec::new());

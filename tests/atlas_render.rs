@@ -84,8 +84,8 @@ fn size_is_the_square_plus_the_documented_legend() {
 
 #[test]
 fn legend_shows_the_bar_and_text() {
-    // At R = 1024 the font pixel is k = 4: the bar spans x 24 … 1000 and rows
-    // R + 60 … R + 100 (documented in legend.rs); the title occupies rows R + 16 … R + 44.
+    // At R = 1024 the font pixel is k = 4: the bar spans x 40 … 984 and rows
+    // R + 60 … R + 100 (documented in legend.rs); the title occupies rows R + 16 … R + 48.
     let (mesh, uvs, corner_uvs) = strip(1, 0.1, 0.1, 0.5, 0.5);
     let input = AtlasInput {
         mesh: &mesh,
@@ -99,17 +99,17 @@ fn legend_shows_the_bar_and_text() {
     let img = render_atlas(&input, 1024).unwrap();
     let scale = ColorScale::for_metric(AtlasMetric::Area);
     let bar_y = 1024 + 80;
-    // The bar's pixel column at x covers position (x + 0.5 − 24) / 976.
-    for x in [24u32, 512, 999] {
-        let p = (f64::from(x) + 0.5 - 24.0) / 976.0;
+    // The bar's pixel column at x covers position (x + 0.5 − 40) / 944.
+    for x in [40u32, 512, 983] {
+        let p = (f64::from(x) + 0.5 - 40.0) / 944.0;
         assert_eq!(
             px(&img, x, bar_y),
             scale.color_at(p).to_srgb8(),
             "bar at x = {x}"
         );
     }
-    assert_eq!(px(&img, 10, bar_y), color::legend_panel());
-    let text_pixels = (1024 + 16..1024 + 44)
+    assert_eq!(px(&img, 20, bar_y), color::legend_panel());
+    let text_pixels = (1024 + 16..1024 + 48)
         .flat_map(|y| (0..1024).map(move |x| (x, y)))
         .filter(|&(x, y)| px(&img, x, y) == color::legend_text())
         .count();

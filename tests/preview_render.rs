@@ -5,9 +5,12 @@ use polyflat::atlas::Oklab;
 use polyflat::preview::{render_preview, view_rect, DARK_L, LIGHT_L};
 use polyflat::PolyMesh;
 
+/// One face: corner positions and their UVs.
+type Part = (Vec<Point3<f64>>, Vec<Point2<f64>>);
+
 /// A square in the plane z = `z`, x, y ∈ [−1, 1], counter-clockwise seen from +z,
 /// with the given UV corners (in the same order: (−1,−1), (1,−1), (1,1), (−1,1)).
-fn square(z: f64, uv: [[f64; 2]; 4]) -> (Vec<Point3<f64>>, Vec<Point2<f64>>) {
+fn square(z: f64, uv: [[f64; 2]; 4]) -> Part {
     let p = [[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]];
     (
         p.iter().map(|q| Point3::new(q[0], q[1], z)).collect(),
@@ -15,9 +18,7 @@ fn square(z: f64, uv: [[f64; 2]; 4]) -> (Vec<Point3<f64>>, Vec<Point2<f64>>) {
     )
 }
 
-fn mesh_of(
-    parts: &[(Vec<Point3<f64>>, Vec<Point2<f64>>)],
-) -> (PolyMesh, Vec<Point2<f64>>, Vec<u32>) {
+fn mesh_of(parts: &[Part]) -> (PolyMesh, Vec<Point2<f64>>, Vec<u32>) {
     let mut positions = Vec::new();
     let mut uvs = Vec::new();
     let mut faces = Vec::new();

@@ -127,6 +127,10 @@ pub fn marker() -> [u8; 3] {
     Oklab::from_lch(0.78, 0.19, 150.0).to_srgb8()
 }
 
+/// Face colours take one of `STEPS + 1` evenly spaced bar positions (an even
+/// count of steps, so the diverging scale keeps its exact neutral middle).
+pub const STEPS: f64 = 256.0;
+
 /// How a metric's values are laid along the colour bar.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ScaleKind {
@@ -223,9 +227,13 @@ impl ColorScale {
         }
     }
 
-    /// The 8-bit sRGB colour of a face with metric `value`.
+    /// The 8-bit sRGB colour of a face with metric `value`: the colour at its bar
+    /// position rounded to one of [`STEPS`]` + 1` evenly spaced steps (finer than
+    /// 8-bit colour resolves along the scale; it lets the atlas fill faces in a
+    /// few hundred batches).
     pub fn color(&self, value: f64) -> [u8; 3] {
-        self.color_at(self.position(value)).to_srgb8()
+        let step = (self.position(value) * STEPS).round() / STEPS;
+        self.color_at(step).to_srgb8()
     }
 }
 

@@ -66,7 +66,7 @@ pub(super) fn draw_layout(pm: &mut Pixmap, input: &AtlasInput, scale: &ColorScal
     }
 
     let (interior, boundary) = classify_edges(input);
-    let segments = |list: &[(usize, usize)]| {
+    let segments = |list: &[Segment]| {
         let mut pb = PathBuilder::new();
         for &(a, b) in list {
             let (pa, pb_) = (corner_px(a), corner_px(b));
@@ -89,7 +89,7 @@ pub(super) fn draw_layout(pm: &mut Pixmap, input: &AtlasInput, scale: &ColorScal
         stroke(pm, &path, color::outline(), 255, (1.6 * unit).max(1.0));
     }
     if let Some(path) = &flipped {
-        stroke(pm, path, color::marker(), 255, (2.4 * unit).max(1.5));
+        stroke(pm, path, color::marker(), 255, (1.4 * unit).max(1.0));
     }
 }
 
@@ -194,11 +194,14 @@ fn polygon_area(points: impl Iterator<Item = (f32, f32)>) -> f64 {
     0.5 * twice.abs()
 }
 
+/// An edge as the pair of global corner indices (start, end) of one face side.
+type Segment = (usize, usize);
+
 /// Splits the mesh's edges, as pairs of global corner indices (start, end), into
 /// interior edges (two faces of one chart meeting with the same UV corners; listed
 /// once) and chart-boundary edges (mesh boundary, UV seam, chart change or
 /// non-manifold; listed once per side).
-fn classify_edges(input: &AtlasInput) -> (Vec<(usize, usize)>, Vec<(usize, usize)>) {
+fn classify_edges(input: &AtlasInput) -> (Vec<Segment>, Vec<Segment>) {
     struct Side {
         key: (u32, u32),
         face: usize,

@@ -1,9 +1,9 @@
 //! The legend strip under the layout square.
 //!
-//! Layout in font pixels `k = max(1, R / 256)` (R = resolution): 4 margin, 7 title
-//! row (metric name left; flipped-face swatch and count right), 4 gap, 10 colour
-//! bar, 3 tick marks, 1 gap, 7 tick labels, 4 margin — 40k rows in all. The bar
-//! spans the width less 6k on each side. Text is legible from R = 256 up.
+//! Layout in font pixels `k = max(1, R / 256)` (R = resolution): 4 margin, 8 title
+//! row (metric name left; flipped-face swatch and count right), 3 gap, 10 colour
+//! bar, 3 tick marks, 1 gap, 8 tick labels, 3 margin — 40k rows in all. The bar
+//! spans the width less 10k on each side. Text is legible from R = 256 up.
 
 use super::color::{self, ColorScale};
 use super::font;
@@ -43,7 +43,7 @@ pub(super) fn draw_legend(pm: &mut Pixmap, scale: &ColorScale, res: u32, flipped
         color::legend_panel(),
     );
 
-    let margin = 6.0 * kf;
+    let margin = 10.0 * kf;
     text(pm, scale.title, margin, top + 4.0 * kf, k);
 
     let label = format!("flipped: {flipped}");
@@ -78,7 +78,7 @@ pub(super) fn draw_legend(pm: &mut Pixmap, scale: &ColorScale, res: u32, flipped
     }
     for &(value, label) in &scale.ticks {
         let tx = (x0 + scale.position(value) as f32 * bar_w).round();
-        let tick_x = (tx - (kf / 2.0).floor()).clamp(x0, x1 - kf);
+        let tick_x = (tx - (kf / 2.0).floor()).min(x1 - kf).max(x0);
         fill_rect(
             pm,
             tick_x,
@@ -88,7 +88,7 @@ pub(super) fn draw_legend(pm: &mut Pixmap, scale: &ColorScale, res: u32, flipped
             color::legend_text(),
         );
         let tw = font::text_width(label, k) as f32;
-        let lx = (tx - tw / 2.0).clamp(kf, (w - kf - tw).max(kf));
+        let lx = (tx - tw / 2.0).min(w - kf - tw).max(kf);
         text(pm, label, lx.round(), bar_y + 14.0 * kf, k);
     }
 }

@@ -4,11 +4,12 @@
 //!
 //! The image is `size`×`size`, a 2×2 grid of views (each `size/2` square):
 //!
-//! | top-left: front (camera on +z) | top-right: right side (camera on +x) |
+//! | top-left: camera on +z | top-right: camera on +x |
 //! | --- | --- |
-//! | bottom-left: back (camera on −z) | bottom-right: three-quarter from above (+x, +y, +z) |
+//! | bottom-left: camera on −z | bottom-right: three-quarter from above, camera on (+x, +0.9y, +z) |
 //!
-//! The model is taken as y-up (the common OBJ convention). Each view frames the
+//! Each view is labelled with its camera direction ("from +z", …): which side of a
+//! model is its front is not known, but y is taken as up (the common OBJ convention). Each view frames the
 //! model's bounding sphere, uses a perspective camera with a 36° field of view, a
 //! z-buffer, perspective-correct texture interpolation, Lambert shading from a light
 //! above-left of the camera plus ambient light, and 2×2 supersampling. Polygons are
@@ -60,19 +61,19 @@ pub struct View {
 /// bottom-right).
 pub const VIEWS: [View; 4] = [
     View {
-        label: "front +z",
+        label: "from +z",
         direction: [0.0, 0.0, 1.0],
     },
     View {
-        label: "right +x",
+        label: "from +x",
         direction: [1.0, 0.0, 0.0],
     },
     View {
-        label: "back -z",
+        label: "from -z",
         direction: [0.0, 0.0, -1.0],
     },
     View {
-        label: "above",
+        label: "from +x+y+z",
         direction: [1.0, 0.9, 1.0],
     },
 ];

@@ -52,7 +52,7 @@ impl Target {
     pub(super) fn triangle(&mut self, v: [ScreenVertex; 3], facing: f64, checker: &Checker) {
         let [a, b, c] = v;
         let area = (b.x - a.x) * (c.y - a.y) - (b.y - a.y) * (c.x - a.x);
-        if !(area.abs() > 1e-12) {
+        if area.is_nan() || area.abs() <= 1e-12 {
             return;
         }
         let min_x = a.x.min(b.x).min(c.x).floor().max(0.0);
