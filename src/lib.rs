@@ -7,6 +7,7 @@
 //! [`pack`] → [`metrics`] → outputs ([`io`], [`atlas`], [`report`]). The command
 //! line, batch runner and HTTP service all call [`pipeline`].
 
+pub mod batch;
 pub mod cli;
 pub mod error;
 pub mod mesh;

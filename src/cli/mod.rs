@@ -1,6 +1,9 @@
 //! The `polyflat` command line: one file per command, each with its clap arguments
 //! and a `run` function. Exit codes: 0 success, 1 failed job, 2 bad usage.
 
+pub mod batch;
+pub mod options;
+
 use clap::{Parser, Subcommand};
 
 /// Flattens polygon meshes into packed UV layouts without triangulating them.
