@@ -8,6 +8,7 @@
 //! line, batch runner and HTTP service all call [`pipeline`].
 
 pub mod atlas;
+pub mod batch;
 pub mod cli;
 pub mod error;
 pub mod io;

@@ -1,7 +1,9 @@
 //! The `polyflat` command line: one file per command, each with its clap arguments
 //! and a `run` function. Exit codes: 0 success, 1 failed job, 2 bad usage.
 
+pub mod batch;
 pub mod inspect;
+pub mod options;
 
 use clap::{Parser, Subcommand};
 
