@@ -12,6 +12,7 @@ pub mod error;
 pub mod mesh;
 pub mod operators;
 pub mod progress;
+pub mod serve;
 pub mod settings;
 
 pub use error::{Error, Result};

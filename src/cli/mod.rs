@@ -3,6 +3,8 @@
 
 use clap::{Parser, Subcommand};
 
+pub mod serve;
+
 /// Flattens polygon meshes into packed UV layouts without triangulating them.
 #[derive(Debug, Parser)]
 #[command(name = "polyflat", version, about, long_about = None, propagate_version = true)]
