@@ -17,6 +17,7 @@ pub mod metrics;
 pub mod operators;
 pub mod preview;
 pub mod progress;
+pub mod serve;
 pub mod settings;
 
 pub use error::{Error, Result};

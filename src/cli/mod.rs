@@ -7,6 +7,8 @@ pub mod options;
 
 use clap::{Parser, Subcommand};
 
+pub mod serve;
+
 /// Flattens polygon meshes into packed UV layouts without triangulating them.
 #[derive(Debug, Parser)]
 #[command(name = "polyflat", version, about, long_about = None, propagate_version = true)]
