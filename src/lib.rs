@@ -9,6 +9,7 @@
 
 pub mod cli;
 pub mod error;
+pub mod flatten;
 pub mod mesh;
 pub mod operators;
 pub mod progress;
