@@ -11,6 +11,7 @@ pub mod atlas;
 pub mod batch;
 pub mod cli;
 pub mod error;
+pub mod flatten;
 pub mod io;
 pub mod mesh;
 pub mod metrics;
