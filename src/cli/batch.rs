@@ -23,8 +23,8 @@ pub struct BatchArgs {
     /// Redo every mesh, even those whose outputs are up to date.
     #[arg(long)]
     pub force: bool,
-    /// No progress bar and no closing tally (errors are still printed).
-    #[arg(long, short)]
+    /// Set from the global `--quiet`: no progress bar and no closing tally.
+    #[arg(skip)]
     pub quiet: bool,
     /// Options for every mesh (a manifest entry overrides them for its mesh).
     #[command(flatten)]
@@ -116,4 +116,9 @@ impl BatchObserver for Bar {
             self.0.suspend(|| eprintln!("error: {error}"));
         }
     }
+}
+
+/// Runs the batch with the flattening pipeline; returns the exit code.
+pub fn run(args: BatchArgs) -> i32 {
+    run_with(args, &crate::batch::PipelineJob)
 }

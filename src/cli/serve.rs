@@ -80,3 +80,8 @@ pub fn run_with(args: &ServeArgs, quiet: bool, runner: Arc<dyn JobRunner>) -> i3
         }
     }
 }
+
+/// Runs the service with the flattening pipeline; returns the exit code.
+pub fn run(args: &ServeArgs, quiet: bool) -> i32 {
+    run_with(args, quiet, Arc::new(crate::serve::PipelineRunner))
+}
