@@ -24,7 +24,7 @@ pub(crate) struct Chart<'m> {
     g2: Vec<[f64; 2]>,
     /// Offsets of each face's penalty matrix in `penalty`.
     penalty_offsets: Vec<usize>,
-    /// Penalty matrices `Q_f` (n×n each, row-major).
+    /// Penalty operators `B_f = √λ P_f D_f` (n×n each, row-major).
     penalty: Vec<f64>,
 }
 
@@ -166,9 +166,15 @@ impl<'m> Chart<'m> {
         }
     }
 
-    /// Gathers face `f`'s UV corners from the per-vertex `uv` array into `w`.
+    /// Gathers face `f`'s UV corners from the per-vertex `uv` array into `w`, relative
+    /// to its first corner (see [`super::face_term`]).
     pub fn gather(&self, f: usize, uv: &[[f64; 2]], w: &mut Vec<[f64; 2]>) {
+        let face = self.face(f);
+        let o = uv[face[0] as usize];
         w.clear();
-        w.extend(self.face(f).iter().map(|&v| uv[v as usize]));
+        w.extend(face.iter().map(|&v| {
+            let p = uv[v as usize];
+            [p[0] - o[0], p[1] - o[1]]
+        }));
     }
 }

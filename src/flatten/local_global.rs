@@ -26,7 +26,7 @@ fn laplacian(chart: &Chart) -> Result<SparseColMat<usize, f64>, String> {
         for i in 0..n {
             for j in 0..n {
                 let (gi, gj) = (view.g2[i], view.g2[j]);
-                let v = view.area * (gi[0] * gj[0] + gi[1] * gj[1]) + view.penalty[i * n + j];
+                let v = view.area * (gi[0] * gj[0] + gi[1] * gj[1]) + view.penalty_hessian(i, j);
                 triplets.push(faer::sparse::Triplet::new(
                     face[i] as usize,
                     face[j] as usize,
@@ -164,7 +164,7 @@ fn local_step(objective: &Objective, uv: &[[f64; 2]], rhs_buf: &mut [f64]) -> f6
                     out[c * n + i] = view.area * (g[0] * r[(c, 0)] + g[1] * r[(c, 1)]);
                 }
             }
-            view.value(energy, w)
+            view.excess(energy, w)
         })
         .collect();
     sums.iter().sum()

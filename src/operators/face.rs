@@ -62,7 +62,7 @@ pub fn area_normal(corners: &[Point3<f64>]) -> Result<(f64, Vector3<f64>), FaceE
     let a = vector_area(corners);
     let area = a.norm();
     let diam2 = diameter(corners).powi(2);
-    if !(area > RELATIVE_AREA_EPS * diam2) {
+    if area.is_nan() || area <= RELATIVE_AREA_EPS * diam2 {
         return Err(FaceError::ZeroArea);
     }
     Ok((area, a / area))

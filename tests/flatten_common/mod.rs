@@ -322,3 +322,85 @@ pub fn random_polygon(n: usize, rng: &mut impl rand::Rng) -> Vec<Point3<f64>> {
         })
         .collect()
 }
+
+/// Splits every pinched vertex (one whose faces form several fans joined only at the
+/// vertex) into one copy per fan, so that a pinched UV island becomes a valid chart.
+pub fn unpinched(mesh: &PolyMesh) -> PolyMesh {
+    let mut positions = mesh.positions.clone();
+    let mut faces: Vec<Vec<u32>> = mesh.faces().map(|f| f.to_vec()).collect();
+    let mut incident: Vec<Vec<usize>> = vec![Vec::new(); positions.len()];
+    for (f, face) in faces.iter().enumerate() {
+        for &v in face {
+            incident[v as usize].push(f);
+        }
+    }
+    for v in 0..incident.len() {
+        let fs = &incident[v];
+        // Neighbours of v within each face; two faces are in one fan when they share one.
+        let around = |f: usize| -> [u32; 2] {
+            let face = &faces[f];
+            let n = face.len();
+            let i = face.iter().position(|&x| x as usize == v).unwrap_or(0);
+            [face[(i + n - 1) % n], face[(i + 1) % n]]
+        };
+        let mut fan = vec![usize::MAX; fs.len()];
+        let mut fans = 0;
+        for start in 0..fs.len() {
+            if fan[start] != usize::MAX {
+                continue;
+            }
+            fan[start] = fans;
+            let mut stack = vec![start];
+            while let Some(a) = stack.pop() {
+                for b in 0..fs.len() {
+                    if fan[b] == usize::MAX
+                        && around(fs[a]).iter().any(|w| around(fs[b]).contains(w))
+                    {
+                        fan[b] = fans;
+                        stack.push(b);
+                    }
+                }
+            }
+            fans += 1;
+        }
+        for k in 1..fans {
+            positions.push(positions[v]);
+            let copy = positions.len() as u32 - 1;
+            for (i, &f) in fs.iter().enumerate() {
+                if fan[i] == k {
+                    for x in faces[f].iter_mut().filter(|x| **x as usize == v) {
+                        *x = copy;
+                    }
+                }
+            }
+        }
+    }
+    PolyMesh::from_faces(positions, &faces)
+}
+
+/// `b` moved by the similarity (rotation, uniform scale, translation) that best fits
+/// it to `a` in the least-squares sense (closed form with complex numbers).
+pub fn aligned_to(a: &[Point2<f64>], b: &[Point2<f64>]) -> Vec<Point2<f64>> {
+    let k = 1.0 / a.len() as f64;
+    let ca = a
+        .iter()
+        .fold(nalgebra::Vector2::zeros(), |s, p| s + p.coords * k);
+    let cb = b
+        .iter()
+        .fold(nalgebra::Vector2::zeros(), |s, p| s + p.coords * k);
+    // Minimise Σ |z (b_i − cb) − (a_i − ca)|² over the complex number z.
+    let (mut re, mut im, mut norm) = (0.0, 0.0, 0.0);
+    for (p, q) in a.iter().zip(b) {
+        let (x, y) = (q.coords - cb, p.coords - ca);
+        re += x.x * y.x + x.y * y.y;
+        im += x.x * y.y - x.y * y.x;
+        norm += x.norm_squared();
+    }
+    let (re, im) = (re / norm, im / norm);
+    b.iter()
+        .map(|q| {
+            let x = q.coords - cb;
+            Point2::new(re * x.x - im * x.y + ca.x, im * x.x + re * x.y + ca.y)
+        })
+        .collect()
+}
