@@ -1,0 +1,119 @@
+//! `polyflat batch INPUT... --out-dir DIR [--jobs N] [--force] [flatten options]`.
+
+use super::options::FlattenOptions;
+use crate::batch::{self, AssetJob, BatchConfig, BatchObserver, Status, SummaryRow};
+use clap::Args;
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use std::io::IsTerminal;
+use std::path::PathBuf;
+
+/// Flattens many meshes into one folder, skipping those already done.
+#[derive(Debug, Args)]
+pub struct BatchArgs {
+    /// OBJ files, folders (searched recursively for *.obj) and TOML manifests.
+    #[arg(required = true, value_name = "INPUT")]
+    pub inputs: Vec<PathBuf>,
+    /// Folder for each input's NAME.obj, NAME.report.json and NAME.atlas.png,
+    /// summary.json and summary.csv.
+    #[arg(long, value_name = "DIR")]
+    pub out_dir: PathBuf,
+    /// Meshes flattened at the same time [default: number of cores].
+    #[arg(long, value_name = "N")]
+    pub jobs: Option<usize>,
+    /// Redo every mesh, even those whose outputs are up to date.
+    #[arg(long)]
+    pub force: bool,
+    /// No progress bar and no closing tally (errors are still printed).
+    #[arg(long, short)]
+    pub quiet: bool,
+    /// Options for every mesh (a manifest entry overrides them for its mesh).
+    #[command(flatten)]
+    pub options: FlattenOptions,
+}
+
+/// Runs the batch with `job` flattening each mesh; returns the exit code.
+pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
+    let settings = match args.options.to_settings() {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("error: {e}");
+            return 2;
+        }
+    };
+    if args.jobs == Some(0) {
+        eprintln!("error: --jobs must be at least 1");
+        return 2;
+    }
+    let config = BatchConfig {
+        out_dir: args.out_dir.clone(),
+        jobs: args
+            .jobs
+            .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, usize::from)),
+        force: args.force,
+        settings,
+    };
+    let bar = Bar::new(args.quiet);
+    let result = batch::run(&args.inputs, &config, job, &bar);
+    bar.0.finish_and_clear();
+    match result {
+        Err(e) => {
+            eprintln!("error: {e}");
+            1
+        }
+        Ok(summary) => {
+            if !args.quiet {
+                for row in summary.rows.iter().filter(|r| r.renamed_from.is_some()) {
+                    if let Some(output) = &row.output {
+                        println!(
+                            "{}: written as {output} (another input has the same name)",
+                            row.input
+                        );
+                    }
+                }
+                println!(
+                    "{} done, {} skipped, {} failed; summary in {}",
+                    summary.count(Status::Done),
+                    summary.count(Status::Skipped),
+                    summary.count(Status::Failed),
+                    args.out_dir.join("summary.json").display()
+                );
+            }
+            summary.exit_code()
+        }
+    }
+}
+
+/// Progress bar over assets on stderr, hidden when quiet or not a terminal.
+struct Bar(ProgressBar);
+
+impl Bar {
+    fn new(quiet: bool) -> Self {
+        if quiet || !std::io::stderr().is_terminal() {
+            return Bar(ProgressBar::hidden());
+        }
+        let bar = ProgressBar::with_draw_target(None, ProgressDrawTarget::stderr());
+        if let Ok(style) =
+            ProgressStyle::with_template("{bar:30} {pos}/{len} meshes  {elapsed}  {wide_msg}")
+        {
+            bar.set_style(style);
+        }
+        Bar(bar)
+    }
+}
+
+impl BatchObserver for Bar {
+    fn planned(&self, total: usize) {
+        self.0.set_length(total as u64);
+    }
+
+    fn stage(&self, name: &str, stage: &str) {
+        self.0.set_message(format!("{name}: {stage}"));
+    }
+
+    fn finished(&self, row: &SummaryRow) {
+        self.0.inc(1);
+        if let Some(error) = &row.error {
+            self.0.suspend(|| eprintln!("error: {error}"));
+        }
+    }
+}
