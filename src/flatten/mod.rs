@@ -27,7 +27,6 @@ mod local_global;
 mod newton;
 mod objective;
 mod stopping;
-mod topology;
 
 use crate::error::{Error, Result};
 use crate::mesh::PolyMesh;

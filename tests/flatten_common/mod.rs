@@ -234,79 +234,24 @@ pub fn fixtures() -> Option<PathBuf> {
     found
 }
 
-/// The UV islands of an OBJ file as separate charts: faces are joined across edges
-/// whose two sides use the same `vt` corners; a chart vertex is one `vt` record,
-/// placed at its `v` position. Minimal reader for the fixtures (`v`, `vt`, `f v/vt`).
+/// The UV islands of an OBJ file (see `polyflat::mesh::uv_islands`) as separate
+/// charts; a chart vertex is one `vt` record, placed at its `v` position.
 pub fn obj_islands(path: &std::path::Path) -> Vec<PolyMesh> {
-    let text = std::fs::read_to_string(path).expect("readable fixture");
-    let mut positions = Vec::new();
-    let mut uv_count = 0usize;
-    let mut faces: Vec<Vec<(u32, u32)>> = Vec::new();
-    for line in text.lines() {
-        let mut it = line.split_whitespace();
-        match it.next() {
-            Some("v") => {
-                let c: Vec<f64> = it.take(3).map(|x| x.parse().expect("number")).collect();
-                positions.push(Point3::new(c[0], c[1], c[2]));
-            }
-            Some("vt") => uv_count += 1,
-            Some("f") => faces.push(
-                it.map(|c| {
-                    let mut parts = c.split('/');
-                    let v: u32 = parts
-                        .next()
-                        .and_then(|x| x.parse().ok())
-                        .expect("vertex index");
-                    let t: u32 = parts.next().and_then(|x| x.parse().ok()).expect("uv index");
-                    (v - 1, t - 1)
-                })
-                .collect(),
-            ),
-            _ => {}
-        }
+    let mesh = polyflat::io::read_obj(path).expect("readable fixture").mesh;
+    let ids = polyflat::mesh::uv_islands(&mesh).expect("the fixture has UVs");
+    let corner_uvs = mesh.corner_uvs.as_ref().expect("the fixture has UVs");
+    let mut vt_position = vec![Point3::origin(); mesh.uvs.len()];
+    for (c, &v) in mesh.face_vertices.iter().enumerate() {
+        vt_position[corner_uvs[c] as usize] = mesh.positions[v as usize];
     }
-    // Union faces sharing an edge with identical (v, vt) corners on both sides.
-    let mut parent: Vec<usize> = (0..faces.len()).collect();
-    fn find(p: &mut [usize], mut x: usize) -> usize {
-        while p[x] != x {
-            p[x] = p[p[x]];
-            x = p[x];
-        }
-        x
-    }
-    let mut edges = std::collections::HashMap::new();
-    for (f, face) in faces.iter().enumerate() {
-        let n = face.len();
-        for i in 0..n {
-            let (a, b) = (face[i], face[(i + 1) % n]);
-            let key = if a < b { (a, b) } else { (b, a) };
-            if let Some(&g) = edges.get(&key) {
-                let (rf, rg) = (find(&mut parent, f), find(&mut parent, g));
-                parent[rf] = rg;
-            } else {
-                edges.insert(key, f);
-            }
-        }
-    }
-    let mut groups: std::collections::BTreeMap<usize, Vec<usize>> = Default::default();
-    for f in 0..faces.len() {
-        let r = find(&mut parent, f);
-        groups.entry(r).or_default().push(f);
-    }
-    let mut vt_position = vec![Point3::origin(); uv_count];
-    for face in &faces {
-        for &(v, t) in face {
-            vt_position[t as usize] = positions[v as usize];
-        }
-    }
-    groups
-        .values()
-        .map(|fs| {
-            let island: Vec<Vec<u32>> = fs
-                .iter()
-                .map(|&f| faces[f].iter().map(|c| c.1).collect())
+    let count = polyflat::mesh::island_count(&ids);
+    (0..count as u32)
+        .map(|island| {
+            let faces: Vec<Vec<u32>> = (0..mesh.face_count())
+                .filter(|&f| ids[f] == island)
+                .map(|f| corner_uvs[mesh.face_range(f)].to_vec())
                 .collect();
-            compact(&vt_position, &island)
+            compact(&vt_position, &faces)
         })
         .collect()
 }
