@@ -337,3 +337,25 @@ fn flip_step_bound_is_the_first_root() {
     assert!(!is_flipped(&view.jacobian(&before), &before));
     assert!(is_flipped(&view.jacobian(&after), &after));
 }
+
+#[test]
+fn excess_over_the_minimum_is_accurate_near_rotations() {
+    // Solvers minimise ψ − min ψ; it must keep full relative precision close to a
+    // rotation so that convergence is not limited by round-off. Expected (analytic)
+    // at J = (1 + ε) R: ARAP 2ε², symmetric Dirichlet 2((1 + ε) − 1/(1 + ε))²,
+    // conformal 0; relative tolerance 1e-6 at ε = 1e-7.
+    let eps = 1e-7;
+    let j = rotation(0.8) * (1.0 + eps);
+    let arap = energy::Arap.excess(&j);
+    assert!((arap / (2.0 * eps * eps) - 1.0).abs() < 1e-6, "{arap}");
+    let s = 1.0 + eps;
+    let sd = energy::SymmetricDirichlet.excess(&j);
+    assert!(
+        (sd / (2.0 * (s - 1.0 / s).powi(2)) - 1.0).abs() < 1e-6,
+        "{sd}"
+    );
+    assert!(energy::Conformal.excess(&j).abs() < 1e-20);
+    assert_eq!(energy::Arap.minimum(), 0.0);
+    assert_eq!(energy::SymmetricDirichlet.minimum(), 4.0);
+    assert_eq!(energy::Conformal.minimum(), 0.0);
+}

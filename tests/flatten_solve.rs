@@ -140,12 +140,13 @@ fn developable_surfaces_flatten_nearly_isometrically() {
 
 /// Largest distance between corresponding UVs relative to the layout's diameter.
 fn relative_difference(a: &[Point2<f64>], b: &[Point2<f64>]) -> f64 {
+    let b = aligned_to(a, b);
     let diameter = a
         .iter()
         .flat_map(|p| a.iter().map(move |q| (p - q).norm()))
         .fold(0.0, f64::max);
     a.iter()
-        .zip(b)
+        .zip(&b)
         .map(|(p, q)| (p - q).norm())
         .fold(0.0, f64::max)
         / diameter
@@ -154,9 +155,10 @@ fn relative_difference(a: &[Point2<f64>], b: &[Point2<f64>]) -> f64 {
 #[test]
 fn conformal_solvers_reach_the_least_squares_conformal_map_on_a_curved_patch() {
     // Expected: the conformal energy is quadratic and, with the same two pins, has one
-    // minimiser: the least-squares conformal map (Lévy et al. 2002), computed directly
-    // by the conformal start. Newton and L-BFGS from the Tutte start must land within
-    // 1% of it (the requirement; both are scaled to the 3D area the same way).
+    // minimiser up to the similarity the pins' placement fixes: the least-squares
+    // conformal map (Lévy et al. 2002), computed directly by the conformal start.
+    // Newton and L-BFGS from the Tutte start (the pins where Tutte put them) must land
+    // within 1% of it after fitting a similarity (the requirement).
     let patch = mapped(&quad_grid(10, 8, 0.1, 0.2), |p| {
         Point3::new(
             p.x,

@@ -2,8 +2,7 @@
 //! precomputed objective data, packed for fast parallel evaluation.
 
 use super::face_term::{FaceTerm, FaceView};
-use super::topology;
-use crate::mesh::PolyMesh;
+use crate::mesh::{PolyMesh, Topology};
 use rayon::prelude::*;
 
 /// A validated chart with its face table.
@@ -16,6 +15,8 @@ pub(crate) struct Chart<'m> {
     pub area: f64,
     /// Mean 3D edge length (length), the scale of gradient tolerances.
     pub mean_edge: f64,
+    /// Penalty weight λ.
+    pub lambda: f64,
     /// Corner offsets per face (`faces + 1`), as in the mesh.
     offsets: Vec<usize>,
     /// Per-face area.
@@ -24,8 +25,65 @@ pub(crate) struct Chart<'m> {
     g2: Vec<[f64; 2]>,
     /// Offsets of each face's penalty matrix in `penalty`.
     penalty_offsets: Vec<usize>,
-    /// Penalty matrices `Q_f` (n×n each, row-major).
+    /// Penalty operators `B_f = √λ P_f D_f` (n×n each, row-major).
     penalty: Vec<f64>,
+}
+
+/// Boundary loops of `mesh` (each along its faces' winding) when it is one connected,
+/// oriented, manifold genus-0 surface with at least one boundary loop; otherwise one
+/// sentence saying what is wrong.
+fn disk_boundary(mesh: &PolyMesh) -> Result<Vec<Vec<u32>>, String> {
+    let topo = Topology::build(mesh);
+    let vertex = |v: u32| format!("vertex {}", v as u64 + 1);
+    let edge = |e: u32| {
+        let [a, b] = topo
+            .edge_vertices
+            .get(e as usize)
+            .copied()
+            .unwrap_or([0, 0]);
+        format!("the edge from {} to {}", vertex(a), vertex(b))
+    };
+    if topo.components.len() != 1 {
+        return Err(format!(
+            "the chart has {} connected pieces; a chart must be one piece",
+            topo.components.len()
+        ));
+    }
+    if let Some(&e) = topo.non_manifold_edges.first() {
+        return Err(format!("{} is shared by more than two faces", edge(e)));
+    }
+    if let Some(&e) = topo.inconsistent_edges.first() {
+        return Err(format!(
+            "the two faces at {} are oriented inconsistently",
+            edge(e)
+        ));
+    }
+    if let Some(&v) = topo.non_manifold_vertices.first() {
+        return Err(format!(
+            "{} joins faces that touch only there (the chart is pinched there)",
+            vertex(v)
+        ));
+    }
+    if let Some(&(_, v)) = topo.pinched_loops.first() {
+        return Err(format!(
+            "the boundary passes {} twice (the chart is pinched there)",
+            vertex(v)
+        ));
+    }
+    if topo.boundary_loops.is_empty() {
+        return Err(
+            "the chart is closed (it has no boundary); it must be cut open along seams".into(),
+        );
+    }
+    let genus = topo.genus();
+    if genus != 0 {
+        return Err(format!(
+            "the chart has genus {genus} with {} boundary loops; it must be a disk or a \
+             genus-0 surface with holes (cut it along more seams)",
+            topo.boundary_loops.len()
+        ));
+    }
+    Ok(topo.boundary_loops)
 }
 
 impl<'m> Chart<'m> {
@@ -84,7 +142,7 @@ impl<'m> Chart<'m> {
                     .map_err(|e| format!("{} {e}", mesh.face_label(f)))
             })
             .collect::<Result<_, _>>()?;
-        let mut loops = topology::boundary_loops(mesh)?;
+        let mut loops = disk_boundary(mesh)?;
         let loop_length = |lp: &Vec<u32>| -> f64 {
             (0..lp.len())
                 .map(|i| {
@@ -124,6 +182,7 @@ impl<'m> Chart<'m> {
             loops,
             area,
             mean_edge: length / count as f64,
+            lambda,
             offsets: mesh.face_offsets.clone(),
             areas,
             g2,
@@ -166,9 +225,15 @@ impl<'m> Chart<'m> {
         }
     }
 
-    /// Gathers face `f`'s UV corners from the per-vertex `uv` array into `w`.
+    /// Gathers face `f`'s UV corners from the per-vertex `uv` array into `w`, relative
+    /// to its first corner (see [`super::face_term`]).
     pub fn gather(&self, f: usize, uv: &[[f64; 2]], w: &mut Vec<[f64; 2]>) {
+        let face = self.face(f);
+        let o = uv[face[0] as usize];
         w.clear();
-        w.extend(self.face(f).iter().map(|&v| uv[v as usize]));
+        w.extend(face.iter().map(|&v| {
+            let p = uv[v as usize];
+            [p[0] - o[0], p[1] - o[1]]
+        }));
     }
 }

@@ -5,14 +5,20 @@
 //! Shapes and units (n = the face's arity):
 //! - `A_f`: the face's 3D area (length²);
 //! - `G2_f`: 2×n tangent-frame gradient (1/length), stored as n columns `[G2₀ᵢ, G2₁ᵢ]`;
-//! - `Q_f = λ (P_f D_f)ᵀ (P_f D_f)`: n×n, row-major, the penalty with its weight λ
-//!   (length² per UV unit², so that it adds to `A_f ψ`);
+//! - `B_f = √λ P_f D_f`: n×n, row-major, the weighted penalty operator, so the
+//!   penalty is `‖B_f u‖² + ‖B_f v‖²` (λ in length² per UV unit², so that it adds to
+//!   `A_f ψ`); evaluating it as a norm rather than as `uᵀ B_fᵀ B_f u` keeps its
+//!   precision near zero;
 //! - `W_f`: the n UV corners (UV units).
 //!
 //! Local unknowns are ordered `(u₀ … u_{n−1}, v₀ … v_{n−1})`, so with
 //! `K_f = blockdiag(G2_f, G2_f)` (4×2n) `vec(J_f) = K_f (u; v)` (row-major `vec`), the
 //! gradient is `A_f K_fᵀ vec(∂ψ/∂J) + 2 blockdiag(Q_f, Q_f) (u; v)` and the Hessian
-//! `A_f K_fᵀ H_ψ K_f + 2 blockdiag(Q_f, Q_f)`.
+//! `A_f K_fᵀ H_ψ K_f + 2 blockdiag(Q_f, Q_f)`, with `Q_f = B_fᵀ B_f`.
+//!
+//! Both `G2_f` and `B_f` annihilate constants, so the functions below accept corners
+//! relative to any origin; callers pass them relative to the first corner, which
+//! avoids cancellation far from the UV origin.
 
 use super::energy::Energy;
 use crate::operators::face::{self, FaceError};
@@ -25,7 +31,7 @@ pub struct FaceTerm {
     pub area: f64,
     /// `G2_f` column by column: `g2[i] = [G2₀ᵢ, G2₁ᵢ]` (1/length).
     pub g2: Vec<[f64; 2]>,
-    /// `Q_f = λ (P_f D_f)ᵀ (P_f D_f)`, n×n row-major.
+    /// `B_f = √λ P_f D_f`, n×n row-major.
     pub penalty: Vec<f64>,
 }
 
@@ -36,12 +42,11 @@ impl FaceTerm {
         let (area, _) = face::area_normal(corners)?;
         let g2 = face::gradient_2d(corners)?;
         let n = corners.len();
-        let pd = face::projection(corners)? * face::difference(n);
-        let q: DMatrix<f64> = pd.transpose() * pd * lambda;
+        let b: DMatrix<f64> = face::projection(corners)? * face::difference(n) * lambda.sqrt();
         Ok(FaceTerm {
             area,
             g2: (0..n).map(|i| [g2[(0, i)], g2[(1, i)]]).collect(),
-            penalty: (0..n * n).map(|k| q[(k / n, k % n)]).collect(),
+            penalty: (0..n * n).map(|k| b[(k / n, k % n)]).collect(),
         })
     }
 
@@ -68,7 +73,7 @@ impl FaceTerm {
         let mut grad = vec![0.0; 2 * n];
         let mut packed = vec![0.0; packed_len(n)];
         let view = self.view();
-        let value = view.value(energy, &w);
+        let value = view.excess(energy, &w) + self.area * energy.minimum();
         view.gradient_hessian(energy, &w, &mut grad, Some((&mut packed, project)));
         let hess = DMatrix::from_fn(2 * n, 2 * n, |a, b| {
             packed[packed_index(a.max(b), a.min(b))]
@@ -94,7 +99,7 @@ pub struct FaceView<'a> {
     pub area: f64,
     /// `G2_f` columns (n).
     pub g2: &'a [[f64; 2]],
-    /// `Q_f`, n×n row-major.
+    /// `B_f = √λ P_f D_f`, n×n row-major.
     pub penalty: &'a [f64],
 }
 
@@ -112,22 +117,33 @@ impl FaceView<'_> {
         j
     }
 
-    /// The penalty `Σ_c w_cᵀ Q_f w_c` over the two UV components.
-    fn penalty_value(&self, w: &[[f64; 2]]) -> f64 {
+    /// `B_f w` for both UV components: row i is `[(B_f u)_i, (B_f v)_i]`.
+    fn penalty_residual(&self, w: &[[f64; 2]]) -> Vec<[f64; 2]> {
         let n = w.len();
-        let mut e = 0.0;
-        for i in 0..n {
-            let row = &self.penalty[i * n..(i + 1) * n];
-            for (qij, wj) in row.iter().zip(w) {
-                e += qij * (w[i][0] * wj[0] + w[i][1] * wj[1]);
-            }
-        }
-        e
+        (0..n)
+            .map(|i| {
+                let row = &self.penalty[i * n..(i + 1) * n];
+                row.iter()
+                    .zip(w)
+                    .fold([0.0, 0.0], |r, (b, p)| [r[0] + b * p[0], r[1] + b * p[1]])
+            })
+            .collect()
     }
 
-    /// `E_f(W_f)`; `+∞` where `ψ` is.
-    pub fn value(&self, energy: &dyn Energy, w: &[[f64; 2]]) -> f64 {
-        self.area * energy.value(&self.jacobian(w)) + self.penalty_value(w)
+    /// `Q_f = B_fᵀ B_f` entry `(i, j)`.
+    pub fn penalty_hessian(&self, i: usize, j: usize) -> f64 {
+        let n = self.g2.len();
+        (0..n)
+            .map(|k| self.penalty[k * n + i] * self.penalty[k * n + j])
+            .sum()
+    }
+
+    /// `E_f(W_f) − A_f min ψ`, the term above its smallest possible value (what the
+    /// solvers minimise, see [`Energy::excess`]); `+∞` where `ψ` is.
+    pub fn excess(&self, energy: &dyn Energy, w: &[[f64; 2]]) -> f64 {
+        let r = self.penalty_residual(w);
+        self.area * energy.excess(&self.jacobian(w))
+            + r.iter().map(|p| p[0] * p[0] + p[1] * p[1]).sum::<f64>()
     }
 
     /// Writes the gradient (2n) into `grad` and, when asked, the packed lower triangle
@@ -143,18 +159,22 @@ impl FaceView<'_> {
         let n = w.len();
         let j = self.jacobian(w);
         let dpsi = energy.gradient(&j) * self.area;
+        let r = self.penalty_residual(w);
         for i in 0..n {
             let g = self.g2[i];
-            let row = &self.penalty[i * n..(i + 1) * n];
             for c in 0..2 {
-                let qw: f64 = row.iter().zip(w).map(|(q, p)| q * p[c]).sum();
-                grad[c * n + i] = dpsi[(c, 0)] * g[0] + dpsi[(c, 1)] * g[1] + 2.0 * qw;
+                // (B_fᵀ B_f w)_i = Σ_k B_ki (B w)_k
+                let bt_r: f64 = (0..n).map(|k| self.penalty[k * n + i] * r[k][c]).sum();
+                grad[c * n + i] = dpsi[(c, 0)] * g[0] + dpsi[(c, 1)] * g[1] + 2.0 * bt_r;
             }
         }
         let Some((packed, project)) = hess else {
             return;
         };
         let h = energy.hessian(&j, project) * self.area;
+        let q: Vec<f64> = (0..n * n)
+            .map(|k| self.penalty_hessian(k / n, k % n))
+            .collect();
         for a in 0..2 * n {
             let (ca, ia) = (a / n, a % n);
             let ga = self.g2[ia];
@@ -168,7 +188,7 @@ impl FaceView<'_> {
                 let gb = self.g2[ib];
                 let mut v = hk[2 * cb] * gb[0] + hk[2 * cb + 1] * gb[1];
                 if ca == cb {
-                    v += 2.0 * self.penalty[ia * n + ib];
+                    v += 2.0 * q[ia * n + ib];
                 }
                 packed[packed_index(a, b)] = v;
             }

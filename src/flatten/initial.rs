@@ -29,7 +29,7 @@ pub(crate) fn tutte(chart: &Chart) -> Result<Vec<[f64; 2]>, String> {
         })
         .collect();
     let total: f64 = lengths.iter().sum();
-    if !(total > 0.0) {
+    if total.is_nan() || total <= 0.0 {
         return Err("the chart's boundary has zero length".into());
     }
     let radius = total / (2.0 * PI);
@@ -147,7 +147,6 @@ pub(crate) fn least_squares_conformal(chart: &Chart) -> Result<Vec<[f64; 2]>, St
     let stop = StopRules {
         max_iterations: 1,
         tolerance: 0.0,
-        area: chart.area,
         gradient: 0.0,
     };
     newton.run(&mut uv, &stop, &Silent)?;

@@ -25,18 +25,22 @@ fn sub(p: [f64; 2], q: [f64; 2]) -> [f64; 2] {
 /// True when the face with Jacobian `j` (2×2) and UV corners `w` (n, in order) is
 /// flipped: `det j ≤ 0` or a UV fan triangle has signed area `≤ 0`.
 pub fn is_flipped(j: &Matrix2<f64>, w: &[[f64; 2]]) -> bool {
-    if !(j.determinant() > 0.0) {
+    let det = j.determinant();
+    if det.is_nan() || det <= 0.0 {
         return true;
     }
     let c = mean(w);
     let n = w.len();
-    (0..n).any(|i| !(cross(sub(w[i], c), sub(w[(i + 1) % n], c)) > 0.0))
+    (0..n).any(|i| {
+        let area = cross(sub(w[i], c), sub(w[(i + 1) % n], c));
+        area.is_nan() || area <= 0.0
+    })
 }
 
 /// Smallest `t > 0` with `a t² + b t + c = 0`, given `c > 0`; `+∞` when there is none
 /// (and 0 when `c ≤ 0`, i.e. already at or past zero).
 pub fn smallest_positive_root(a: f64, b: f64, c: f64) -> f64 {
-    if !(c > 0.0) {
+    if c.is_nan() || c <= 0.0 {
         return 0.0;
     }
     let scale = a.abs().max(b.abs()).max(c);

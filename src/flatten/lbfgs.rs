@@ -15,7 +15,7 @@ use argmin::core::{
 use argmin::solver::quasinewton::LBFGS;
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::{Arc, Mutex};
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 /// Number of correction pairs kept (common practice, no published source).
 const MEMORY: usize = 8;
@@ -29,21 +29,26 @@ const MAX_HALVINGS: usize = 60;
 type Param = Vec<f64>;
 type LbfgsState = IterState<Param, Param, (), (), (), f64>;
 
+/// Work counters shared with the caller (argmin owns the problem).
+#[derive(Default)]
+struct Counters {
+    gradients: AtomicU64,
+    evaluate_ns: AtomicU64,
+    line_search_ns: AtomicU64,
+}
+
 /// The objective over the free unknowns, as argmin sees it.
-struct ReducedProblem<'a, 'o, 'c, 'm> {
-    objective: &'a Objective<'o, 'm>,
+struct ReducedProblem<'a> {
+    objective: &'a Objective<'a, 'a>,
     dofs: &'a Dofs,
     gather: &'a Gather,
     /// UVs of every vertex; pinned vertices keep these values.
     base: &'a [[f64; 2]],
     progress: &'a dyn Progress,
-    gradients: AtomicU64,
-    evaluate_ns: AtomicU64,
-    line_search_ns: AtomicU64,
-    _chart: std::marker::PhantomData<&'c ()>,
+    counters: &'a Counters,
 }
 
-impl ReducedProblem<'_, '_, '_, '_> {
+impl ReducedProblem<'_> {
     fn full(&self, x: &[f64]) -> Vec<[f64; 2]> {
         let mut uv = self.base.to_vec();
         self.dofs.scatter(x, &mut uv);
@@ -51,20 +56,21 @@ impl ReducedProblem<'_, '_, '_, '_> {
     }
 }
 
-impl CostFunction for ReducedProblem<'_, '_, '_, '_> {
+impl CostFunction for ReducedProblem<'_> {
     type Param = Param;
     type Output = f64;
 
     fn cost(&self, x: &Param) -> Result<f64, ArgminError> {
         let t = Instant::now();
         let e = self.objective.value(&self.full(x));
-        self.line_search_ns
+        self.counters
+            .line_search_ns
             .fetch_add(t.elapsed().as_nanos() as u64, Ordering::Relaxed);
         Ok(e)
     }
 }
 
-impl Gradient for ReducedProblem<'_, '_, '_, '_> {
+impl Gradient for ReducedProblem<'_> {
     type Param = Param;
     type Gradient = Param;
 
@@ -75,10 +81,11 @@ impl Gradient for ReducedProblem<'_, '_, '_, '_> {
         self.objective.evaluate(&uv, &mut buf, None);
         let mut g = vec![0.0; x.len()];
         self.gather.apply(&buf, &mut g);
-        self.evaluate_ns
+        self.counters
+            .evaluate_ns
             .fetch_add(t.elapsed().as_nanos() as u64, Ordering::Relaxed);
         // One gradient per iteration (plus the initial one).
-        let k = self.gradients.fetch_add(1, Ordering::Relaxed);
+        let k = self.counters.gradients.fetch_add(1, Ordering::Relaxed);
         if k > 0 {
             self.progress.advance(k);
         }
@@ -88,8 +95,8 @@ impl Gradient for ReducedProblem<'_, '_, '_, '_> {
 
 /// Backtracking line search bounded by the first flip (see the module docs).
 #[derive(Clone)]
-struct FlipBoundedBacktracking<'a, 'o, 'm> {
-    objective: &'a Objective<'o, 'm>,
+struct FlipBoundedBacktracking<'a> {
+    objective: &'a Objective<'a, 'a>,
     dofs: &'a Dofs,
     base: &'a [[f64; 2]],
     direction: Option<Param>,
@@ -98,13 +105,13 @@ struct FlipBoundedBacktracking<'a, 'o, 'm> {
     halvings: usize,
 }
 
-impl FlipBoundedBacktracking<'_, '_, '_> {
+impl FlipBoundedBacktracking<'_> {
     fn trial(&self, x: &[f64], d: &[f64]) -> Param {
         x.iter().zip(d).map(|(x, d)| x + self.alpha * d).collect()
     }
 }
 
-impl LineSearch<Param, f64> for FlipBoundedBacktracking<'_, '_, '_> {
+impl LineSearch<Param, f64> for FlipBoundedBacktracking<'_> {
     fn search_direction(&mut self, direction: Param) {
         self.direction = Some(direction);
     }
@@ -119,7 +126,7 @@ fn missing(what: &str) -> ArgminError {
     ArgminError::msg(format!("the line search has no {what}"))
 }
 
-impl<O> Solver<O, LbfgsState> for FlipBoundedBacktracking<'_, '_, '_>
+impl<O> Solver<O, LbfgsState> for FlipBoundedBacktracking<'_>
 where
     O: CostFunction<Param = Param, Output = f64> + Gradient<Param = Param, Gradient = Param>,
 {
@@ -133,10 +140,6 @@ where
         mut state: LbfgsState,
     ) -> Result<(LbfgsState, Option<KV>), ArgminError> {
         let x = state.take_param().ok_or_else(|| missing("start point"))?;
-        let d = self
-            .direction
-            .as_ref()
-            .ok_or_else(|| missing("direction"))?;
         let cost = match state.get_cost() {
             c if c.is_finite() => c,
             _ => problem.cost(&x)?,
@@ -145,20 +148,28 @@ where
             Some(g) => g,
             None => problem.gradient(&x)?,
         };
-        let slope: f64 = grad.iter().zip(d).map(|(g, d)| g * d).sum();
+        let mut d = self.direction.take().ok_or_else(|| missing("direction"))?;
+        let mut slope: f64 = grad.iter().zip(&d).map(|(g, d)| g * d).sum();
+        if slope.is_nan() || slope >= 0.0 {
+            // The quasi-Newton direction does not descend (curvature information
+            // went bad): search along the steepest descent instead.
+            d = grad.iter().map(|g| -g).collect();
+            slope = -grad.iter().map(|g| g * g).sum::<f64>();
+        }
         self.alpha = 1.0;
         if self.objective.energy.is_barrier() {
             let mut uv = self.base.to_vec();
             self.dofs.scatter(&x, &mut uv);
             let mut duv = vec![[0.0; 2]; uv.len()];
-            self.dofs.scatter(d, &mut duv);
+            self.dofs.scatter(&d, &mut duv);
             self.alpha = self
                 .alpha
                 .min(FLIP_MARGIN * self.objective.first_flip(&uv, &duv));
         }
         self.halvings = 0;
-        let trial = self.trial(&x, d);
+        let trial = self.trial(&x, &d);
         let c = problem.cost(&trial)?;
+        self.direction = Some(d);
         self.start = Some((x, cost, slope));
         Ok((state.param(trial).cost(c), None))
     }
@@ -198,22 +209,46 @@ where
     }
 }
 
-/// Records the energy after every iteration, and when it was reached.
-struct History(Arc<Mutex<Vec<(f64, Instant)>>>);
+/// What the monitor saw: every iteration's energy with when it was reached, and the
+/// layout at which the relative-decrease rule stopped the run.
+#[derive(Default)]
+struct Seen {
+    history: Vec<(f64, Instant)>,
+    stopped_at: Option<Param>,
+}
 
-impl Observe<LbfgsState> for History {
+/// Records the energy after every iteration and applies the relative-decrease rule,
+/// which argmin's L-BFGS does not have: it stops the run by returning an error after
+/// keeping the layout.
+struct Monitor {
+    seen: Arc<Mutex<Seen>>,
+    stop: StopRules,
+    previous: f64,
+}
+
+const STOP_SIGNAL: &str = "relative decrease below tolerance";
+
+impl Observe<LbfgsState> for Monitor {
     fn observe_iter(&mut self, state: &LbfgsState, _kv: &KV) -> Result<(), ArgminError> {
-        if let Ok(mut h) = self.0.lock() {
-            h.push((state.get_cost(), Instant::now()));
+        let cost = state.get_cost();
+        let mut seen = self
+            .seen
+            .lock()
+            .map_err(|_| ArgminError::msg("monitor poisoned"))?;
+        seen.history.push((cost, Instant::now()));
+        if self.stop.stalled(self.previous, cost) {
+            seen.stopped_at = state.get_param().cloned();
+            return Err(ArgminError::msg(STOP_SIGNAL));
         }
+        self.previous = cost;
         Ok(())
     }
 }
 
 /// Minimises `objective` from `uv` (updated in place) with the vertices `pins` held
 /// fixed, until a stop rule holds.
-pub(crate) fn run(
-    objective: &Objective,
+pub(crate) fn run<'a>(
+    objective: &'a Objective<'a, 'a>,
     pins: &[u32],
     uv: &mut [[f64; 2]],
     stop: &StopRules,
@@ -235,16 +270,14 @@ pub(crate) fn run(
     if x0.is_empty() || stop.max_iterations == 0 {
         return Ok(out);
     }
+    let counters = Counters::default();
     let problem = ReducedProblem {
         objective,
         dofs: &dofs,
         gather: &gather,
         base: &base,
         progress,
-        gradients: AtomicU64::new(0),
-        evaluate_ns: AtomicU64::new(0),
-        line_search_ns: AtomicU64::new(0),
-        _chart: std::marker::PhantomData,
+        counters: &counters,
     };
     let line_search = FlipBoundedBacktracking {
         objective,
@@ -255,36 +288,44 @@ pub(crate) fn run(
         alpha: 1.0,
         halvings: 0,
     };
+    // argmin's own cost rule (absolute change) is off: the monitor applies ours.
     let solver = LBFGS::new(line_search, MEMORY)
         .with_tolerance_grad(stop.gradient)
-        .and_then(|s| s.with_tolerance_cost(stop.tolerance * stop.area))
+        .and_then(|s| s.with_tolerance_cost(0.0))
         .map_err(|e| format!("L-BFGS set-up failed: {e}"))?;
-    let history = Arc::new(Mutex::new(Vec::new()));
+    let seen = Arc::new(Mutex::new(Seen::default()));
+    let monitor = Monitor {
+        seen: seen.clone(),
+        stop: *stop,
+        previous: e0,
+    };
     let result = Executor::new(problem, solver)
-        .configure(|s| s.param(x0).cost(e0).max_iters(stop.max_iterations as u64))
-        .add_observer(History(history.clone()), ObserverMode::Always)
+        .configure(|s| s.param(x0).max_iters(stop.max_iterations as u64))
+        .add_observer(monitor, ObserverMode::Always)
         .ctrlc(false)
         .timer(false)
-        .run()
-        .map_err(|e| format!("L-BFGS failed: {e}"))?;
-    let mut state = result.state;
-    let x = state
-        .take_best_param()
-        .or_else(|| state.take_param())
-        .ok_or("L-BFGS returned no layout")?;
-    dofs.scatter(&x, uv);
-    if let Some(problem) = result.problem.problem.as_ref() {
-        out.clocks.evaluate =
-            std::time::Duration::from_nanos(problem.evaluate_ns.load(Ordering::Relaxed));
-        out.clocks.line_search =
-            std::time::Duration::from_nanos(problem.line_search_ns.load(Ordering::Relaxed));
-    }
-    out.iterations = state.get_iter() as usize;
-    if let Ok(h) = history.lock() {
-        for &(e, at) in h.iter() {
-            out.history.push(e);
-            out.reached.push(at);
+        .run();
+    let mut seen = seen
+        .lock()
+        .map_err(|_| "L-BFGS monitor failed".to_string())?;
+    let x = match result {
+        Ok(result) => {
+            let mut state = result.state;
+            state.take_best_param().or_else(|| state.take_param())
         }
+        Err(e) => match seen.stopped_at.take() {
+            Some(x) if e.to_string().contains(STOP_SIGNAL) => Some(x),
+            _ => return Err(format!("L-BFGS failed: {e}")),
+        },
+    }
+    .ok_or("L-BFGS returned no layout")?;
+    dofs.scatter(&x, uv);
+    out.clocks.evaluate = Duration::from_nanos(counters.evaluate_ns.load(Ordering::Relaxed));
+    out.clocks.line_search = Duration::from_nanos(counters.line_search_ns.load(Ordering::Relaxed));
+    out.iterations = seen.history.len();
+    for &(e, at) in &seen.history {
+        out.history.push(e);
+        out.reached.push(at);
     }
     Ok(out)
 }

@@ -6,39 +6,13 @@
 //! each iteration is one solve with two right-hand sides (u and v).
 
 use super::assembly::{gradient_gather, Dofs, PINNED};
-use super::chart::Chart;
 use super::cholesky::Cholesky;
 use super::energy::{closest_rotation, Energy};
 use super::objective::Objective;
 use super::stopping::{timed, Outcome, StopRules};
+use crate::operators::global::laplacian;
 use crate::progress::Progress;
-use faer::sparse::SparseColMat;
 use rayon::prelude::*;
-
-/// `L(λ) = Σ_f A_f G2_fᵀ G2_f + Q_f` (V×V, both triangles), equal to
-/// `Σ_f D_fᵀ M_f(λ) D_f` because `G2_f` keeps the whole tangential gradient.
-fn laplacian(chart: &Chart) -> Result<SparseColMat<usize, f64>, String> {
-    let mut triplets = Vec::new();
-    for f in 0..chart.face_count() {
-        let face = chart.face(f);
-        let view = chart.view(f);
-        let n = face.len();
-        for i in 0..n {
-            for j in 0..n {
-                let (gi, gj) = (view.g2[i], view.g2[j]);
-                let v = view.area * (gi[0] * gj[0] + gi[1] * gj[1]) + view.penalty[i * n + j];
-                triplets.push(faer::sparse::Triplet::new(
-                    face[i] as usize,
-                    face[j] as usize,
-                    v,
-                ));
-            }
-        }
-    }
-    let nv = chart.vertex_count();
-    SparseColMat::try_new_from_triplets(nv, nv, &triplets)
-        .map_err(|e| format!("cannot assemble L(λ) ({e:?})"))
-}
 
 /// Runs local–global ARAP from `uv` (updated in place) with vertex `pin` fixed.
 pub(crate) fn run(
@@ -52,7 +26,10 @@ pub(crate) fn run(
     let mut out = Outcome::default();
     let dofs = Dofs::new(chart.vertex_count(), &[pin]);
     let free = dofs.free;
-    let l = timed(&mut out.clocks.setup, || laplacian(chart))?;
+    let l = timed(&mut out.clocks.setup, || {
+        laplacian(chart.mesh, chart.lambda)
+    })
+    .map_err(|e| format!("cannot assemble L(λ): {e}"))?;
     // Lower triangle over free vertices, and the pinned vertex's column.
     let mut col_ptr = vec![0usize];
     let mut row_idx = Vec::new();
@@ -164,7 +141,7 @@ fn local_step(objective: &Objective, uv: &[[f64; 2]], rhs_buf: &mut [f64]) -> f6
                     out[c * n + i] = view.area * (g[0] * r[(c, 0)] + g[1] * r[(c, 1)]);
                 }
             }
-            view.value(energy, w)
+            view.excess(energy, w)
         })
         .collect();
     sums.iter().sum()

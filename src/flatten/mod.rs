@@ -27,7 +27,6 @@ mod local_global;
 mod newton;
 mod objective;
 mod stopping;
-mod topology;
 
 use crate::error::{Error, Result};
 use crate::mesh::PolyMesh;
@@ -51,9 +50,9 @@ pub struct SolveOptions {
     pub projection_weight: f64,
     /// Iteration cap.
     pub max_iterations: usize,
-    /// Stop when an iteration lowers the energy by at most `tolerance ×` the chart's
-    /// 3D area, or when every gradient entry is at most `tolerance ×` the mean edge
-    /// length.
+    /// Stop when an iteration lowers the energy by at most `tolerance ×` its value
+    /// above the isometric minimum `Σ_f A_f min ψ`, or when every gradient entry is at
+    /// most `tolerance ×` the mean edge length.
     pub tolerance: f64,
     /// Chart id used in error messages.
     pub chart_id: usize,
@@ -273,7 +272,6 @@ pub fn solve_chart(
     let stop = StopRules {
         max_iterations: opts.max_iterations,
         tolerance: opts.tolerance,
-        area: prepared.area,
         gradient: opts.tolerance * prepared.mean_edge,
     };
     let pins: Vec<u32> = match opts.energy {
@@ -296,6 +294,8 @@ pub fn solve_chart(
     let outcome = outcome.map_err(fail)?;
     scale_to_area(&prepared, &mut uv).map_err(fail)?;
     let flipped_faces = objective.flipped_faces(&uv);
+    // The solvers work above the energy's floor Σ_f A_f min ψ; report E itself.
+    let floor = prepared.area * energy.minimum();
     let c = outcome.clocks;
     timings.evaluate_ms = ms(c.evaluate);
     timings.assemble_ms = ms(c.assemble);
@@ -312,7 +312,7 @@ pub fn solve_chart(
             .iter()
             .map(|t| ms(t.duration_since(began)))
             .collect(),
-        history: outcome.history,
+        history: outcome.history.iter().map(|e| e + floor).collect(),
         iterations: outcome.iterations,
         solver,
         start: start_kind,

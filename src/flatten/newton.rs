@@ -104,7 +104,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             }
             self.solve(&mut values, &grad, &mut step, &mut out.clocks)?;
             let mut slope: f64 = grad.iter().zip(&step).map(|(g, d)| g * d).sum();
-            if !(slope < 0.0) {
+            if slope.is_nan() || slope >= 0.0 {
                 // Not a descent direction (round-off on a nearly singular system).
                 for (d, g) in step.iter_mut().zip(&grad) {
                     *d = -g;

@@ -1,5 +1,7 @@
 //! The chart's objective `E(W) = Σ_f A_f ψ(J_f) + λ Σ_f ‖P_f D_f W_f‖²_F`, evaluated
 //! face by face in parallel (rayon) into per-face buffers that the assembly gathers.
+//! Values are measured above the constant `Σ_f A_f min ψ` (see
+//! [`super::energy::Energy::excess`]); gradients and Hessians are unaffected.
 //!
 //! UVs are per vertex (`[u, v]`, UV units). Per-face gradient buffers hold 2n values
 //! per face at offset `2 × (first corner)`; Hessian buffers hold the packed lower
@@ -85,7 +87,8 @@ impl<'c, 'm> Objective<'c, 'm> {
         partial.iter().sum()
     }
 
-    /// `E(uv)`; `+∞` when the energy is a barrier and some face is flipped.
+    /// `E(uv) − Σ_f A_f min ψ`; `+∞` when the energy is a barrier and some face is
+    /// flipped.
     pub fn value(&self, uv: &[[f64; 2]]) -> f64 {
         let barrier = self.energy.is_barrier();
         self.sum_faces(uv, |f, w| {
@@ -93,12 +96,12 @@ impl<'c, 'm> Objective<'c, 'm> {
             if barrier && injectivity::is_flipped(&view.jacobian(w), w) {
                 f64::INFINITY
             } else {
-                view.value(self.energy, w)
+                view.excess(self.energy, w)
             }
         })
     }
 
-    /// `E(uv)` with per-face gradients written to `grad` (2 per corner) and, when
+    /// `E(uv) − Σ_f A_f min ψ` with per-face gradients written to `grad` (2 per corner) and, when
     /// given, projected per-face Hessians to `hess` (at [`hessian_offsets`]).
     pub fn evaluate(
         &self,
@@ -139,7 +142,7 @@ impl<'c, 'm> Objective<'c, 'm> {
                 for f in range.clone() {
                     self.chart.gather(f, uv, &mut w);
                     let view = self.chart.view(f);
-                    s += view.value(self.energy, &w);
+                    s += view.excess(self.energy, &w);
                     let gr = 2 * offsets[f] - g0..2 * offsets[f + 1] - g0;
                     let hs = h
                         .as_deref_mut()

@@ -7,11 +7,8 @@ use std::time::{Duration, Instant};
 pub(crate) struct StopRules {
     /// Iteration cap.
     pub max_iterations: usize,
-    /// Stop when an iteration lowers the energy by at most `tolerance × area`
-    /// (the energy per unit of 3D area changed by at most `tolerance`).
+    /// Stop when an iteration lowers the energy by at most `tolerance ×` its value.
     pub tolerance: f64,
-    /// The chart's 3D area (length²).
-    pub area: f64,
     /// Stop when every gradient entry is at most this (length units): `tolerance ×`
     /// the mean edge length.
     pub gradient: f64,
@@ -20,7 +17,8 @@ pub(crate) struct StopRules {
 impl StopRules {
     /// True when going from energy `before` to `after` is too small a decrease to go on.
     pub fn stalled(&self, before: f64, after: f64) -> bool {
-        !(before - after > self.tolerance * self.area)
+        let decrease = before - after;
+        decrease.is_nan() || decrease <= self.tolerance * before.abs()
     }
 
     /// True when the largest gradient entry `g_max` is small enough to stop.

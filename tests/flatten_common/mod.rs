@@ -234,79 +234,24 @@ pub fn fixtures() -> Option<PathBuf> {
     found
 }
 
-/// The UV islands of an OBJ file as separate charts: faces are joined across edges
-/// whose two sides use the same `vt` corners; a chart vertex is one `vt` record,
-/// placed at its `v` position. Minimal reader for the fixtures (`v`, `vt`, `f v/vt`).
+/// The UV islands of an OBJ file (see `polyflat::mesh::uv_islands`) as separate
+/// charts; a chart vertex is one `vt` record, placed at its `v` position.
 pub fn obj_islands(path: &std::path::Path) -> Vec<PolyMesh> {
-    let text = std::fs::read_to_string(path).expect("readable fixture");
-    let mut positions = Vec::new();
-    let mut uv_count = 0usize;
-    let mut faces: Vec<Vec<(u32, u32)>> = Vec::new();
-    for line in text.lines() {
-        let mut it = line.split_whitespace();
-        match it.next() {
-            Some("v") => {
-                let c: Vec<f64> = it.take(3).map(|x| x.parse().expect("number")).collect();
-                positions.push(Point3::new(c[0], c[1], c[2]));
-            }
-            Some("vt") => uv_count += 1,
-            Some("f") => faces.push(
-                it.map(|c| {
-                    let mut parts = c.split('/');
-                    let v: u32 = parts
-                        .next()
-                        .and_then(|x| x.parse().ok())
-                        .expect("vertex index");
-                    let t: u32 = parts.next().and_then(|x| x.parse().ok()).expect("uv index");
-                    (v - 1, t - 1)
-                })
-                .collect(),
-            ),
-            _ => {}
-        }
+    let mesh = polyflat::io::read_obj(path).expect("readable fixture").mesh;
+    let ids = polyflat::mesh::uv_islands(&mesh).expect("the fixture has UVs");
+    let corner_uvs = mesh.corner_uvs.as_ref().expect("the fixture has UVs");
+    let mut vt_position = vec![Point3::origin(); mesh.uvs.len()];
+    for (c, &v) in mesh.face_vertices.iter().enumerate() {
+        vt_position[corner_uvs[c] as usize] = mesh.positions[v as usize];
     }
-    // Union faces sharing an edge with identical (v, vt) corners on both sides.
-    let mut parent: Vec<usize> = (0..faces.len()).collect();
-    fn find(p: &mut [usize], mut x: usize) -> usize {
-        while p[x] != x {
-            p[x] = p[p[x]];
-            x = p[x];
-        }
-        x
-    }
-    let mut edges = std::collections::HashMap::new();
-    for (f, face) in faces.iter().enumerate() {
-        let n = face.len();
-        for i in 0..n {
-            let (a, b) = (face[i], face[(i + 1) % n]);
-            let key = if a < b { (a, b) } else { (b, a) };
-            if let Some(&g) = edges.get(&key) {
-                let (rf, rg) = (find(&mut parent, f), find(&mut parent, g));
-                parent[rf] = rg;
-            } else {
-                edges.insert(key, f);
-            }
-        }
-    }
-    let mut groups: std::collections::BTreeMap<usize, Vec<usize>> = Default::default();
-    for f in 0..faces.len() {
-        let r = find(&mut parent, f);
-        groups.entry(r).or_default().push(f);
-    }
-    let mut vt_position = vec![Point3::origin(); uv_count];
-    for face in &faces {
-        for &(v, t) in face {
-            vt_position[t as usize] = positions[v as usize];
-        }
-    }
-    groups
-        .values()
-        .map(|fs| {
-            let island: Vec<Vec<u32>> = fs
-                .iter()
-                .map(|&f| faces[f].iter().map(|c| c.1).collect())
+    let count = polyflat::mesh::island_count(&ids);
+    (0..count as u32)
+        .map(|island| {
+            let faces: Vec<Vec<u32>> = (0..mesh.face_count())
+                .filter(|&f| ids[f] == island)
+                .map(|f| corner_uvs[mesh.face_range(f)].to_vec())
                 .collect();
-            compact(&vt_position, &island)
+            compact(&vt_position, &faces)
         })
         .collect()
 }
@@ -319,6 +264,88 @@ pub fn random_polygon(n: usize, rng: &mut impl rand::Rng) -> Vec<Point3<f64>> {
                 2.0 * std::f64::consts::PI * (i as f64 + rng.random_range(-0.3..0.3)) / n as f64;
             let r = rng.random_range(0.7..1.3);
             Point3::new(r * a.cos(), r * a.sin(), rng.random_range(-0.25..0.25))
+        })
+        .collect()
+}
+
+/// Splits every pinched vertex (one whose faces form several fans joined only at the
+/// vertex) into one copy per fan, so that a pinched UV island becomes a valid chart.
+pub fn unpinched(mesh: &PolyMesh) -> PolyMesh {
+    let mut positions = mesh.positions.clone();
+    let mut faces: Vec<Vec<u32>> = mesh.faces().map(|f| f.to_vec()).collect();
+    let mut incident: Vec<Vec<usize>> = vec![Vec::new(); positions.len()];
+    for (f, face) in faces.iter().enumerate() {
+        for &v in face {
+            incident[v as usize].push(f);
+        }
+    }
+    for v in 0..incident.len() {
+        let fs = &incident[v];
+        // Neighbours of v within each face; two faces are in one fan when they share one.
+        let around = |f: usize| -> [u32; 2] {
+            let face = &faces[f];
+            let n = face.len();
+            let i = face.iter().position(|&x| x as usize == v).unwrap_or(0);
+            [face[(i + n - 1) % n], face[(i + 1) % n]]
+        };
+        let mut fan = vec![usize::MAX; fs.len()];
+        let mut fans = 0;
+        for start in 0..fs.len() {
+            if fan[start] != usize::MAX {
+                continue;
+            }
+            fan[start] = fans;
+            let mut stack = vec![start];
+            while let Some(a) = stack.pop() {
+                for b in 0..fs.len() {
+                    if fan[b] == usize::MAX
+                        && around(fs[a]).iter().any(|w| around(fs[b]).contains(w))
+                    {
+                        fan[b] = fans;
+                        stack.push(b);
+                    }
+                }
+            }
+            fans += 1;
+        }
+        for k in 1..fans {
+            positions.push(positions[v]);
+            let copy = positions.len() as u32 - 1;
+            for (i, &f) in fs.iter().enumerate() {
+                if fan[i] == k {
+                    for x in faces[f].iter_mut().filter(|x| **x as usize == v) {
+                        *x = copy;
+                    }
+                }
+            }
+        }
+    }
+    PolyMesh::from_faces(positions, &faces)
+}
+
+/// `b` moved by the similarity (rotation, uniform scale, translation) that best fits
+/// it to `a` in the least-squares sense (closed form with complex numbers).
+pub fn aligned_to(a: &[Point2<f64>], b: &[Point2<f64>]) -> Vec<Point2<f64>> {
+    let k = 1.0 / a.len() as f64;
+    let ca = a
+        .iter()
+        .fold(nalgebra::Vector2::zeros(), |s, p| s + p.coords * k);
+    let cb = b
+        .iter()
+        .fold(nalgebra::Vector2::zeros(), |s, p| s + p.coords * k);
+    // Minimise Σ |z (b_i − cb) − (a_i − ca)|² over the complex number z.
+    let (mut re, mut im, mut norm) = (0.0, 0.0, 0.0);
+    for (p, q) in a.iter().zip(b) {
+        let (x, y) = (q.coords - cb, p.coords - ca);
+        re += x.x * y.x + x.y * y.y;
+        im += x.x * y.y - x.y * y.x;
+        norm += x.norm_squared();
+    }
+    let (re, im) = (re / norm, im / norm);
+    b.iter()
+        .map(|q| {
+            let x = q.coords - cb;
+            Point2::new(re * x.x - im * x.y + ca.x, im * x.x + re * x.y + ca.y)
         })
         .collect()
 }

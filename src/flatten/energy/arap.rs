@@ -2,7 +2,7 @@
 //! closest rotation to `J` (Liu, Zhang, Xu, Gotsman & Gortler 2008, "A local/global
 //! approach to mesh parameterization", SGP). Minimum 0 exactly at rotations.
 
-use super::{isotropic_hessian, signed_svd, Energy};
+use super::{isotropic_hessian, sigma_parts, signed_svd, Energy};
 use nalgebra::{Matrix2, Matrix4};
 
 /// As-rigid-as-possible energy.
@@ -24,10 +24,15 @@ pub fn closest_rotation(j: &Matrix2<f64>) -> Matrix2<f64> {
 }
 
 impl Energy for Arap {
-    fn value(&self, j: &Matrix2<f64>) -> f64 {
-        // ‖J‖² − 2 tr(Rᵀ J) + 2 with tr(Rᵀ J) = σ1 + σ2 = |(J₀₀ + J₁₁, J₁₀ − J₀₁)|.
-        let trace = (j[(0, 0)] + j[(1, 1)]).hypot(j[(1, 0)] - j[(0, 1)]);
-        j.norm_squared() - 2.0 * trace + 2.0
+    fn minimum(&self) -> f64 {
+        0.0
+    }
+
+    fn excess(&self, j: &Matrix2<f64>) -> f64 {
+        // With σ1,2 = q ± r: (σ1 − 1)² + (σ2 − 1)² = 2(q − 1)² + 2r², free of the
+        // cancellation in ‖J‖² − 2(σ1 + σ2) + 2 near rotations.
+        let (q, r) = sigma_parts(j);
+        2.0 * (q - 1.0).powi(2) + 2.0 * r * r
     }
 
     fn gradient(&self, j: &Matrix2<f64>) -> Matrix2<f64> {

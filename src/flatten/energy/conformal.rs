@@ -11,7 +11,11 @@ use nalgebra::{Matrix2, Matrix4, Vector4};
 pub struct Conformal;
 
 impl Energy for Conformal {
-    fn value(&self, j: &Matrix2<f64>) -> f64 {
+    fn minimum(&self) -> f64 {
+        0.0
+    }
+
+    fn excess(&self, j: &Matrix2<f64>) -> f64 {
         // ½((J₀₀ − J₁₁)² + (J₀₁ + J₁₀)²), free of cancellation near similarities.
         0.5 * ((j[(0, 0)] - j[(1, 1)]).powi(2) + (j[(0, 1)] + j[(1, 0)]).powi(2))
     }

@@ -26,8 +26,16 @@ use nalgebra::{Matrix2, Matrix4, Vector4};
 
 /// A distortion energy density `ψ(J)` (per unit of 3D area).
 pub trait Energy: Send + Sync {
-    /// `ψ(J)`; `+∞` where the energy is not defined (barrier energies at `det J ≤ 0`).
-    fn value(&self, j: &Matrix2<f64>) -> f64;
+    /// `min ψ`, reached at rotations.
+    fn minimum(&self) -> f64;
+    /// `ψ(J) − min ψ`, computed without cancellation near the minimum (solvers
+    /// minimise this, so that convergence is not limited by round-off in `ψ`); `+∞`
+    /// where the energy is not defined (barrier energies at `det J ≤ 0`).
+    fn excess(&self, j: &Matrix2<f64>) -> f64;
+    /// `ψ(J)`.
+    fn value(&self, j: &Matrix2<f64>) -> f64 {
+        self.minimum() + self.excess(j)
+    }
     /// `∂ψ/∂J` (2×2, laid out like `J`).
     fn gradient(&self, j: &Matrix2<f64>) -> Matrix2<f64>;
     /// `∂²ψ/∂vec(J)²` (4×4, `vec` row-major); clamped to positive semi-definite when
@@ -88,6 +96,14 @@ pub fn signed_svd(j: &Matrix2<f64>) -> Svd2 {
 /// `vec(M)` in row-major order `(M₀₀, M₀₁, M₁₀, M₁₁)`.
 pub fn vec_row_major(m: &Matrix2<f64>) -> Vector4<f64> {
     Vector4::new(m[(0, 0)], m[(0, 1)], m[(1, 0)], m[(1, 1)])
+}
+
+/// The pair `(q, r)` with signed singular values `σ1,2 = q ± r` of `j` (2×2), computed
+/// directly from its entries (see [`signed_svd`]).
+pub(crate) fn sigma_parts(j: &Matrix2<f64>) -> (f64, f64) {
+    let q = 0.5 * (j[(0, 0)] + j[(1, 1)]).hypot(j[(1, 0)] - j[(0, 1)]);
+    let r = 0.5 * (j[(0, 0)] - j[(1, 1)]).hypot(j[(1, 0)] + j[(0, 1)]);
+    (q, r)
 }
 
 /// Cofactor matrix `cof(J) = ∂ det J / ∂J` (2×2).

@@ -3,7 +3,7 @@
 //! 34(4)). Minimum 4 exactly at rotations; `+∞` at `det J ≤ 0`, so it keeps faces
 //! from flipping when every step is bounded.
 
-use super::{cofactor, isotropic_hessian, signed_svd, Energy};
+use super::{cofactor, isotropic_hessian, sigma_parts, signed_svd, Energy};
 use nalgebra::{Matrix2, Matrix4};
 
 /// Symmetric Dirichlet energy.
@@ -11,13 +11,20 @@ use nalgebra::{Matrix2, Matrix4};
 pub struct SymmetricDirichlet;
 
 impl Energy for SymmetricDirichlet {
-    fn value(&self, j: &Matrix2<f64>) -> f64 {
-        // In 2D ‖J⁻¹‖² = ‖J‖² / det²J.
+    fn minimum(&self) -> f64 {
+        4.0
+    }
+
+    fn excess(&self, j: &Matrix2<f64>) -> f64 {
+        // σ² + σ⁻² − 2 = (σ − 1/σ)² = ((σ − 1)(σ + 1)/σ)², with σ1,2 = q ± r so that
+        // σ − 1 = (q − 1) ± r is exact near rotations.
         let det = j.determinant();
-        if !(det > 0.0) {
+        if det.is_nan() || det <= 0.0 {
             return f64::INFINITY;
         }
-        j.norm_squared() * (1.0 + 1.0 / (det * det))
+        let (q, r) = sigma_parts(j);
+        let term = |s: f64, s_minus_1: f64| (s_minus_1 * (s + 1.0) / s).powi(2);
+        term(q + r, (q - 1.0) + r) + term(q - r, (q - 1.0) - r)
     }
 
     fn gradient(&self, j: &Matrix2<f64>) -> Matrix2<f64> {
