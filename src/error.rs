@@ -45,6 +45,10 @@ pub enum Error {
         /// What went wrong.
         message: String,
     },
+    /// An image could not be drawn: its inputs disagree with the mesh or its size is
+    /// out of range; the message names the face or option.
+    #[error("{0}")]
+    Image(String),
 }
 
 /// Result with the library's error type.

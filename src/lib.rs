@@ -7,12 +7,18 @@
 //! [`pack`] → [`metrics`] → outputs ([`io`], [`atlas`], [`report`]). The command
 //! line, batch runner and HTTP service all call [`pipeline`].
 
+pub mod atlas;
 pub mod batch;
 pub mod cli;
 pub mod error;
+pub mod flatten;
+pub mod io;
 pub mod mesh;
+pub mod metrics;
 pub mod operators;
+pub mod preview;
 pub mod progress;
+pub mod serve;
 pub mod settings;
 
 pub use error::{Error, Result};

@@ -19,6 +19,14 @@ pub enum FaceError {
     /// A corner coordinate is NaN or infinite.
     #[error("has a corner with a non-finite coordinate")]
     NonFinite,
+    /// A per-corner attribute list (UVs) does not have one entry per corner.
+    #[error("has {corners} corners but {uvs} UV corners")]
+    UvCountMismatch {
+        /// Number of 3D corners.
+        corners: usize,
+        /// Number of UV corners given.
+        uvs: usize,
+    },
 }
 
 /// Area below which a face counts as degenerate, relative to its squared diameter.
@@ -62,7 +70,8 @@ pub fn area_normal(corners: &[Point3<f64>]) -> Result<(f64, Vector3<f64>), FaceE
     let a = vector_area(corners);
     let area = a.norm();
     let diam2 = diameter(corners).powi(2);
-    if !(area > RELATIVE_AREA_EPS * diam2) {
+    // NaN (from overflow) counts as degenerate too.
+    if area.is_nan() || area <= RELATIVE_AREA_EPS * diam2 {
         return Err(FaceError::ZeroArea);
     }
     Ok((area, a / area))

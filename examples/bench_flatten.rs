@@ -1,0 +1,179 @@
+//! Flattening benchmark: prints tables of whole-run and per-stage times.
+//!
+//! Run: `cargo run --release --example bench_flatten [-- --large]`
+//! (`--large` adds a 1M-face quad disk).
+//!
+//! 1. Quads vs the same surface triangulated (each quad split in two), for arap and
+//!    symmetric-dirichlet with every solver: time per stage and final distortion.
+//! 2. One Newton iteration and the whole solve, each relative to one numeric Cholesky
+//!    factorization of the same Hessian (measured in the same run).
+//! 3. Scaling on quad disks of 10k and 100k faces (1M with `--large`).
+//! 4. Symmetric Dirichlet on a ~45k-face triangle disk from Tutte: time to come within
+//!    1% of the converged energy.
+
+#[path = "../tests/flatten_common/mod.rs"]
+mod common;
+
+use nalgebra::Point3;
+use polyflat::flatten::{auto_solver, solve_chart, ChartSolution, SolveOptions, Start};
+use polyflat::progress::Silent;
+use polyflat::settings::{EnergyKind, SolverKind};
+use polyflat::PolyMesh;
+
+/// `n × n` quads on the unit square lifted onto a smooth bump (not developable).
+fn bump_disk(n: usize) -> PolyMesh {
+    common::mapped(&common::quad_grid(n, n, 1.0 / n as f64, 0.15), |p| {
+        let (x, y) = (p.x - 0.5, p.y - 0.5);
+        Point3::new(p.x, p.y, 0.3 * (-(x * x + y * y) * 8.0).exp())
+    })
+}
+
+/// L2 stretch (Sander et al. 2001) and the largest angle distortion σ1/σ2.
+fn distortion(mesh: &PolyMesh, s: &ChartSolution) -> (f64, f64) {
+    let js = common::jacobians(mesh, &s.uvs);
+    let (mut num, mut den, mut worst) = (0.0, 0.0, 1.0f64);
+    for (f, j) in js.iter().enumerate() {
+        let a = polyflat::operators::face::vector_area(&mesh.face_corners(f)).norm();
+        let sv = j.singular_values();
+        let (s1, s2) = (sv.max(), sv.min());
+        num += a * (s1.powi(-2) + s2.powi(-2)) / 2.0;
+        den += a;
+        worst = worst.max(s1 / s2);
+    }
+    ((num / den).sqrt(), worst)
+}
+
+fn run(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind) -> ChartSolution {
+    let opts = SolveOptions {
+        energy,
+        solver,
+        ..SolveOptions::default()
+    };
+    match solve_chart(mesh, &opts, Start::Tutte, &Silent) {
+        Ok(s) => s,
+        Err(e) => {
+            eprintln!("{energy} with {solver} failed: {e}");
+            std::process::exit(1);
+        }
+    }
+}
+
+fn header() {
+    println!(
+        "| case | faces | energy | solver | iters | total s | setup | start | evaluate | assemble | factor (n) | solve | line search | L2 stretch | max σ1/σ2 |"
+    );
+    println!("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|");
+}
+
+fn row(case: &str, mesh: &PolyMesh, energy: EnergyKind, s: &ChartSolution) {
+    let t = &s.timings;
+    let (l2, angle) = distortion(mesh, s);
+    println!(
+        "| {case} | {} | {energy} | {} | {} | {:.3} | {:.3} | {:.3} | {:.3} | {:.3} | {:.3} ({}) | {:.3} | {:.3} | {l2:.5} | {angle:.4} |",
+        mesh.face_count(),
+        s.solver,
+        s.iterations,
+        t.total_ms / 1e3,
+        t.setup_ms / 1e3,
+        t.start_ms / 1e3,
+        t.evaluate_ms / 1e3,
+        t.assemble_ms / 1e3,
+        t.factor_ms / 1e3,
+        t.factorizations,
+        t.solve_ms / 1e3,
+        t.line_search_ms / 1e3,
+    );
+}
+
+/// (one Newton iteration, whole solve) relative to one numeric factorization.
+fn newton_ratios(s: &ChartSolution) -> (f64, f64) {
+    let t = &s.timings;
+    let factorization = t.factor_ms / t.factorizations.max(1) as f64;
+    let iterations = t.evaluate_ms + t.assemble_ms + t.factor_ms + t.solve_ms + t.line_search_ms;
+    (
+        iterations / s.iterations.max(1) as f64 / factorization,
+        t.total_ms / factorization,
+    )
+}
+
+fn main() {
+    let large = std::env::args().any(|a| a == "--large");
+    println!("threads: {}", rayon::current_num_threads());
+
+    println!("\n## 1. Quads vs the same surface triangulated\n");
+    header();
+    let quads = bump_disk(100);
+    let tris = common::triangulated(&quads);
+    let mut ratios = Vec::new();
+    for energy in [EnergyKind::Arap, EnergyKind::SymmetricDirichlet] {
+        let mut solvers = vec![SolverKind::Newton, SolverKind::Lbfgs];
+        if energy == EnergyKind::Arap {
+            solvers.push(SolverKind::LocalGlobal);
+        }
+        for solver in solvers {
+            let mut total = [0.0; 2];
+            for (k, (case, mesh)) in [("quads", &quads), ("triangles", &tris)]
+                .into_iter()
+                .enumerate()
+            {
+                let s = run(mesh, energy, solver);
+                row(case, mesh, energy, &s);
+                total[k] = s.timings.total_ms;
+                if solver == SolverKind::Newton {
+                    ratios.push((format!("{case} {energy}"), newton_ratios(&s)));
+                }
+            }
+            println!(
+                "| quads / triangles time | | {energy} | {solver} | | {:.2} | | | | | | | | | |",
+                total[0] / total[1]
+            );
+        }
+    }
+    println!(
+        "\nAuto: arap → {}, symmetric-dirichlet → {}",
+        auto_solver(EnergyKind::Arap),
+        auto_solver(EnergyKind::SymmetricDirichlet)
+    );
+
+    println!("\n## 2. Newton cost relative to one numeric factorization of its Hessian\n");
+    println!("| case | one iteration / factorization (target ≤ 1.5) | whole solve / factorization (target ≤ 10) |");
+    println!("|---|---|---|");
+    for (case, (it, whole)) in &ratios {
+        println!("| {case} | {it:.2} | {whole:.2} |");
+    }
+
+    println!("\n## 3. Scaling on quad disks (Auto solver)\n");
+    header();
+    let mut sizes = vec![100, 316];
+    if large {
+        sizes.push(1000);
+    }
+    for n in sizes {
+        let mesh = bump_disk(n);
+        for energy in [EnergyKind::Arap, EnergyKind::SymmetricDirichlet] {
+            let s = run(&mesh, energy, SolverKind::Auto);
+            row(&format!("{n}×{n} quads"), &mesh, energy, &s);
+        }
+    }
+
+    println!("\n## 4. Symmetric Dirichlet on a triangle disk from Tutte: time to 1% of the converged energy\n");
+    println!("| faces | solver | converged energy | iterations to 1% | time to 1% s | total s |");
+    println!("|---|---|---|---|---|---|");
+    let tri_disk = common::triangulated(&bump_disk(150));
+    for solver in [SolverKind::Newton, SolverKind::Lbfgs] {
+        let s = run(&tri_disk, EnergyKind::SymmetricDirichlet, solver);
+        let converged = s.history.iter().copied().fold(f64::INFINITY, f64::min);
+        let k = s
+            .history
+            .iter()
+            .position(|&e| e <= 1.01 * converged)
+            .unwrap_or(0);
+        println!(
+            "| {} | {} | {converged:.6} | {k} | {:.3} | {:.3} |",
+            tri_disk.face_count(),
+            s.solver,
+            s.history_ms[k] / 1e3,
+            s.timings.total_ms / 1e3
+        );
+    }
+}

@@ -1,0 +1,369 @@
+//! Flattening engine: minimises a distortion energy over one chart's UVs (DESIGN §2).
+//!
+//! The objective is `E(W) = Σ_f A_f ψ(J_f) + λ Σ_f ‖P_f D_f W_f‖²_F` over the polygon
+//! faces themselves (no triangulation), with `J_f = (G2_f W_f)ᵀ` the face Jacobian of
+//! de Goes, Butts & Desbrun (2020). Pieces:
+//!
+//! - [`energy`]: the densities ψ (`arap`, `symmetric-dirichlet`, `conformal`), one
+//!   file each behind the [`energy::Energy`] trait;
+//! - [`face_term`]: one face's term, gradient and projected Hessian;
+//! - [`injectivity`]: flip tests and the flip-free step bound;
+//! - private: chart checks and face tables, the sparse Newton system and its
+//!   Cholesky factorization, the starting layouts (Tutte, least-squares conformal)
+//!   and the solvers (projected Newton, L-BFGS, ARAP local–global).
+//!
+//! [`solve_chart`] is the entry point.
+
+pub mod energy;
+pub mod face_term;
+pub mod injectivity;
+
+mod assembly;
+mod chart;
+mod cholesky;
+mod initial;
+mod lbfgs;
+mod local_global;
+mod newton;
+mod objective;
+mod stopping;
+mod topology;
+
+use crate::error::{Error, Result};
+use crate::mesh::PolyMesh;
+use crate::progress::Progress;
+use crate::settings::{EnergyKind, Settings, SolverKind};
+use chart::Chart;
+use nalgebra::Point2;
+use objective::Objective;
+use serde::Serialize;
+use std::time::Instant;
+use stopping::{Outcome, StopRules};
+
+/// What to minimise and how.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SolveOptions {
+    /// Distortion energy ψ.
+    pub energy: EnergyKind,
+    /// Optimiser; [`SolverKind::Auto`] picks the fastest for the energy.
+    pub solver: SolverKind,
+    /// Weight λ ≥ 0 of the projection penalty.
+    pub projection_weight: f64,
+    /// Iteration cap.
+    pub max_iterations: usize,
+    /// Stop when an iteration lowers the energy by at most `tolerance ×` the chart's
+    /// 3D area, or when every gradient entry is at most `tolerance ×` the mean edge
+    /// length.
+    pub tolerance: f64,
+    /// Chart id used in error messages.
+    pub chart_id: usize,
+}
+
+impl SolveOptions {
+    /// The solver options of a job's settings, for chart `chart_id`.
+    pub fn from_settings(settings: &Settings, chart_id: usize) -> Self {
+        SolveOptions {
+            energy: settings.energy,
+            solver: settings.solver,
+            projection_weight: settings.projection_weight,
+            max_iterations: settings.max_iterations,
+            tolerance: settings.tolerance,
+            chart_id,
+        }
+    }
+}
+
+impl Default for SolveOptions {
+    fn default() -> Self {
+        SolveOptions::from_settings(&Settings::default(), 0)
+    }
+}
+
+/// The starting layout.
+#[derive(Debug, Clone, Copy)]
+pub enum Start<'a> {
+    /// Uniform-weight Tutte embedding (flip-free, convex faces).
+    Tutte,
+    /// Least-squares conformal map with two far-apart boundary pins.
+    Conformal,
+    /// Given per-vertex UVs (a warm start); one per chart vertex.
+    Given(&'a [Point2<f64>]),
+}
+
+/// Which start a solution actually began from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum StartKind {
+    /// Uniform-weight Tutte embedding.
+    Tutte,
+    /// Least-squares conformal map.
+    Conformal,
+    /// The given UVs.
+    Given,
+}
+
+/// Wall-clock time per stage, in milliseconds.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct StageTimings {
+    /// Checks, per-face precomputation, sparse pattern and symbolic analysis.
+    pub setup_ms: f64,
+    /// Computing the starting layout.
+    pub start_ms: f64,
+    /// Per-face energy, gradient and Hessian evaluation.
+    pub evaluate_ms: f64,
+    /// Gathering per-face terms into the global gradient and matrix.
+    pub assemble_ms: f64,
+    /// Numeric factorizations.
+    pub factor_ms: f64,
+    /// Number of numeric factorizations.
+    pub factorizations: usize,
+    /// Triangular solves.
+    pub solve_ms: f64,
+    /// Line searches (step bound and trial energies).
+    pub line_search_ms: f64,
+    /// The whole call.
+    pub total_ms: f64,
+}
+
+/// The solved layout of one chart.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChartSolution {
+    /// UV per chart vertex, scaled so the UV area equals the 3D area.
+    pub uvs: Vec<Point2<f64>>,
+    /// Energy of the start and after each iteration (before the final scaling).
+    pub history: Vec<f64>,
+    /// Milliseconds since the call began at which each `history` entry was reached.
+    pub history_ms: Vec<f64>,
+    /// Iterations taken.
+    pub iterations: usize,
+    /// The solver actually used.
+    pub solver: SolverKind,
+    /// The start actually used.
+    pub start: StartKind,
+    /// Faces flipped in the result (always 0 for barrier energies).
+    pub flipped_faces: usize,
+    /// Time per stage.
+    pub timings: StageTimings,
+    /// Sentences about fallbacks taken (e.g. a rejected warm start).
+    pub notes: Vec<String>,
+}
+
+/// The solver [`SolverKind::Auto`] stands for with `energy` (measured by
+/// `examples/bench_flatten.rs`, see DEVELOPERS.md).
+pub fn auto_solver(energy: EnergyKind) -> SolverKind {
+    match energy {
+        EnergyKind::Arap | EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => {
+            SolverKind::Newton
+        }
+    }
+}
+
+/// Flattens one chart: a disk, or a genus-0 surface with holes, whose faces have any
+/// arity ≥ 3 and need not be planar.
+///
+/// Starts from `start`, minimises `opts.energy` with the chosen solver, then scales
+/// the layout so that its UV area equals the chart's 3D area (DESIGN §2 Scale). For
+/// barrier energies (symmetric Dirichlet) the result has no flipped face; a start
+/// with flipped faces is replaced by the Tutte embedding (said in `notes`).
+///
+/// Errors (`Error::Solve`, one sentence naming the face or vertex): a chart that is
+/// not a disk or genus-0 with holes, a degenerate face, a warm start of the wrong
+/// length or with non-finite values, invalid options, a solver failure.
+pub fn solve_chart(
+    chart: &PolyMesh,
+    opts: &SolveOptions,
+    start: Start,
+    progress: &dyn Progress,
+) -> Result<ChartSolution> {
+    let began = Instant::now();
+    let fail = |message: String| Error::Solve {
+        chart: opts.chart_id,
+        message,
+    };
+    if !(opts.projection_weight.is_finite() && opts.projection_weight >= 0.0) {
+        return Err(fail(format!(
+            "the projection weight must be a finite number ≥ 0, got {}",
+            opts.projection_weight
+        )));
+    }
+    if !(opts.tolerance.is_finite() && opts.tolerance >= 0.0) {
+        return Err(fail(format!(
+            "the tolerance must be a finite number ≥ 0, got {}",
+            opts.tolerance
+        )));
+    }
+    let prepared = Chart::new(chart, opts.projection_weight).map_err(fail)?;
+    let energy = energy::energy(opts.energy);
+    let objective = Objective::new(&prepared, energy);
+    let mut notes = Vec::new();
+    let mut timings = StageTimings {
+        setup_ms: ms(began.elapsed()),
+        ..StageTimings::default()
+    };
+
+    let start_clock = Instant::now();
+    let (mut uv, mut start_kind) = match start {
+        Start::Tutte => (initial::tutte(&prepared).map_err(fail)?, StartKind::Tutte),
+        Start::Conformal => (
+            initial::least_squares_conformal(&prepared).map_err(fail)?,
+            StartKind::Conformal,
+        ),
+        Start::Given(given) => {
+            if given.len() != chart.vertex_count() {
+                return Err(fail(format!(
+                    "the warm start has {} UVs but the chart has {} vertices",
+                    given.len(),
+                    chart.vertex_count()
+                )));
+            }
+            if let Some(v) = given
+                .iter()
+                .position(|p| !(p.x.is_finite() && p.y.is_finite()))
+            {
+                return Err(fail(format!(
+                    "the warm start's UV of vertex {} is not finite",
+                    v + 1
+                )));
+            }
+            (given.iter().map(|p| [p.x, p.y]).collect(), StartKind::Given)
+        }
+    };
+    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    if energy.is_barrier() {
+        let flipped = objective.flipped_faces(&uv);
+        if flipped > 0 {
+            if start_kind == StartKind::Tutte {
+                return Err(fail(format!(
+                    "the Tutte embedding flips {flipped} faces, so {} cannot start",
+                    opts.energy
+                )));
+            }
+            notes.push(format!(
+                "the {} start flips {flipped} faces, which {} cannot start from; started from the Tutte embedding instead",
+                start_name(start_kind),
+                opts.energy
+            ));
+            uv = initial::tutte(&prepared).map_err(fail)?;
+            scale_to_area(&prepared, &mut uv).map_err(fail)?;
+            start_kind = StartKind::Tutte;
+            let flipped = objective.flipped_faces(&uv);
+            if flipped > 0 {
+                return Err(fail(format!(
+                    "the Tutte embedding flips {flipped} faces, so {} cannot start",
+                    opts.energy
+                )));
+            }
+        }
+    }
+    timings.start_ms = ms(start_clock.elapsed());
+
+    let mut solver = match opts.solver {
+        SolverKind::Auto => auto_solver(opts.energy),
+        s => s,
+    };
+    if solver == SolverKind::LocalGlobal && opts.energy != EnergyKind::Arap {
+        let chosen = auto_solver(opts.energy);
+        notes.push(format!(
+            "the {} solver works only with arap; used {chosen} for {}",
+            SolverKind::LocalGlobal,
+            opts.energy
+        ));
+        solver = chosen;
+    }
+    let stop = StopRules {
+        max_iterations: opts.max_iterations,
+        tolerance: opts.tolerance,
+        area: prepared.area,
+        gradient: opts.tolerance * prepared.mean_edge,
+    };
+    let pins: Vec<u32> = match opts.energy {
+        EnergyKind::Conformal => initial::far_pins(&prepared).to_vec(),
+        _ => vec![prepared.loops[0][0]],
+    };
+    progress.begin("flatten", opts.max_iterations as u64);
+    let setup_clock = Instant::now();
+    let outcome: std::result::Result<Outcome, String> = match solver {
+        SolverKind::LocalGlobal => local_global::run(&objective, pins[0], &mut uv, &stop, progress),
+        SolverKind::Lbfgs => lbfgs::run(&objective, &pins, &mut uv, &stop, progress),
+        _ => newton::Newton::new(&objective, &pins, opts.energy != EnergyKind::Conformal).and_then(
+            |mut n| {
+                timings.setup_ms += ms(setup_clock.elapsed());
+                n.run(&mut uv, &stop, progress)
+            },
+        ),
+    };
+    progress.end();
+    let outcome = outcome.map_err(fail)?;
+    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    let flipped_faces = objective.flipped_faces(&uv);
+    let c = outcome.clocks;
+    timings.evaluate_ms = ms(c.evaluate);
+    timings.assemble_ms = ms(c.assemble);
+    timings.setup_ms += ms(c.setup);
+    timings.factor_ms = ms(c.factor);
+    timings.factorizations = c.factorizations;
+    timings.solve_ms = ms(c.solve);
+    timings.line_search_ms = ms(c.line_search);
+    timings.total_ms = ms(began.elapsed());
+    Ok(ChartSolution {
+        uvs: uv.iter().map(|p| Point2::new(p[0], p[1])).collect(),
+        history_ms: outcome
+            .reached
+            .iter()
+            .map(|t| ms(t.duration_since(began)))
+            .collect(),
+        history: outcome.history,
+        iterations: outcome.iterations,
+        solver,
+        start: start_kind,
+        flipped_faces,
+        timings,
+        notes,
+    })
+}
+
+fn start_name(kind: StartKind) -> &'static str {
+    match kind {
+        StartKind::Tutte => "Tutte",
+        StartKind::Conformal => "conformal",
+        StartKind::Given => "given",
+    }
+}
+
+fn ms(d: std::time::Duration) -> f64 {
+    d.as_secs_f64() * 1e3
+}
+
+/// Signed UV area of the chart: the sum of its UV polygons' shoelace areas.
+fn uv_area(chart: &Chart, uv: &[[f64; 2]]) -> f64 {
+    (0..chart.face_count())
+        .map(|f| {
+            let face = chart.face(f);
+            let n = face.len();
+            0.5 * (0..n)
+                .map(|i| {
+                    let p = uv[face[i] as usize];
+                    let q = uv[face[(i + 1) % n] as usize];
+                    p[0] * q[1] - p[1] * q[0]
+                })
+                .sum::<f64>()
+        })
+        .sum()
+}
+
+/// Scales `uv` about its centroid so that its UV area equals the chart's 3D area.
+fn scale_to_area(chart: &Chart, uv: &mut [[f64; 2]]) -> std::result::Result<(), String> {
+    let area = uv_area(chart, uv).abs();
+    if !(area > 0.0 && area.is_finite()) {
+        return Err("the layout has no area (every face collapsed or is not finite)".into());
+    }
+    let s = (chart.area / area).sqrt();
+    let k = 1.0 / uv.len() as f64;
+    let c = uv
+        .iter()
+        .fold([0.0, 0.0], |c, p| [c[0] + p[0] * k, c[1] + p[1] * k]);
+    for p in uv.iter_mut() {
+        *p = [c[0] + s * (p[0] - c[0]), c[1] + s * (p[1] - c[1])];
+    }
+    Ok(())
+}

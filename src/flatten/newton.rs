@@ -1,0 +1,187 @@
+//! Projected Newton: per-face Hessians projected to positive semi-definite (see
+//! [`super::energy`]), a sparse Cholesky factorization per step on a pattern analysed
+//! once per chart, and a backtracking (Armijo) line search whose first trial never
+//! passes the first flip of any face for barrier energies (Smith & Schaefer 2015).
+//!
+//! Pinned vertices are removed from the system (one pin removes translations; the
+//! conformal energy pins two to fix the similarity). What is left of the rigid-motion
+//! null space (rotation) gets a small diagonal shift, raised when a factorization
+//! fails.
+
+use super::assembly::{Dofs, NewtonSystem};
+use super::cholesky::Cholesky;
+use super::objective::{hessian_offsets, Objective};
+use super::stopping::{timed, Clocks, Outcome, StopRules};
+use crate::progress::Progress;
+
+/// Armijo sufficient-decrease constant (common practice, no published source).
+const ARMIJO: f64 = 1e-4;
+/// Fraction of the distance to the first flip taken as the first trial step
+/// (Smith & Schaefer 2015 use a fraction of the bound; 0.9 is our choice).
+const FLIP_MARGIN: f64 = 0.9;
+/// Halvings before the line search gives up (the energy cannot decrease further in
+/// floating point).
+const MAX_HALVINGS: usize = 60;
+/// Diagonal shift relative to the mean diagonal, first try and growth per failure.
+const SHIFT: f64 = 1e-9;
+const SHIFT_GROWTH: f64 = 100.0;
+const MAX_SHIFTS: usize = 12;
+
+/// A Newton solver for one objective: pattern, symbolic analysis and buffers are
+/// built once and reused by every step.
+pub(crate) struct Newton<'o, 'c, 'm> {
+    objective: &'o Objective<'c, 'm>,
+    system: NewtonSystem,
+    cholesky: Cholesky,
+    hess_offsets: Vec<usize>,
+    shift: bool,
+}
+
+impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
+    /// Prepares Newton's method on `objective` with the vertices `pins` held fixed.
+    /// `shift` adds the small diagonal shift from the first factorization (needed
+    /// when a rotation null space is left).
+    pub fn new(
+        objective: &'o Objective<'c, 'm>,
+        pins: &[u32],
+        shift: bool,
+    ) -> Result<Self, String> {
+        let chart = objective.chart;
+        let hess_offsets = hessian_offsets(chart);
+        let dofs = Dofs::new(chart.vertex_count(), pins);
+        let system = NewtonSystem::new(chart, dofs, &hess_offsets)?;
+        let cholesky = Cholesky::analyse(system.n, &system.col_ptr, &system.row_idx)?;
+        Ok(Newton {
+            objective,
+            system,
+            cholesky,
+            hess_offsets,
+            shift,
+        })
+    }
+
+    /// Minimises from `uv` (per-vertex UVs, updated in place) until a stop rule holds.
+    pub fn run(
+        &mut self,
+        uv: &mut [[f64; 2]],
+        stop: &StopRules,
+        progress: &dyn Progress,
+    ) -> Result<Outcome, String> {
+        let chart = self.objective.chart;
+        let n = self.system.n;
+        let mut out = Outcome::default();
+        let mut grad_buf = vec![0.0; 2 * chart.mesh.corner_count()];
+        let mut hess_buf = vec![0.0; self.hess_offsets[chart.face_count()]];
+        let mut values = vec![0.0; self.system.row_idx.len()];
+        let mut grad = vec![0.0; n];
+        let mut step = vec![0.0; n];
+        let mut duv = vec![[0.0; 2]; uv.len()];
+        let mut trial = uv.to_vec();
+        while out.iterations < stop.max_iterations {
+            let e = timed(&mut out.clocks.evaluate, || {
+                self.objective.evaluate(
+                    uv,
+                    &mut grad_buf,
+                    Some((&mut hess_buf, &self.hess_offsets)),
+                )
+            });
+            if !e.is_finite() {
+                return Err(
+                    "the energy is not finite at the start; a face is flipped or degenerate".into(),
+                );
+            }
+            let energy = e;
+            if out.history.is_empty() {
+                out.record(e);
+            }
+            timed(&mut out.clocks.assemble, || {
+                self.system.gradient.apply(&grad_buf, &mut grad);
+                self.system.assemble_hessian(&hess_buf, &mut values);
+            });
+            let g_max = grad.iter().fold(0.0f64, |m, g| m.max(g.abs()));
+            if n == 0 || stop.stationary(g_max) {
+                break;
+            }
+            self.solve(&mut values, &grad, &mut step, &mut out.clocks)?;
+            let mut slope: f64 = grad.iter().zip(&step).map(|(g, d)| g * d).sum();
+            if !(slope < 0.0) {
+                // Not a descent direction (round-off on a nearly singular system).
+                for (d, g) in step.iter_mut().zip(&grad) {
+                    *d = -g;
+                }
+                slope = -grad.iter().map(|g| g * g).sum::<f64>();
+            }
+            let accepted = timed(&mut out.clocks.line_search, || {
+                duv.iter_mut().for_each(|d| *d = [0.0; 2]);
+                self.system.dofs.scatter(&step, &mut duv);
+                let mut t: f64 = 1.0;
+                if self.objective.energy.is_barrier() {
+                    t = t.min(FLIP_MARGIN * self.objective.first_flip(uv, &duv));
+                }
+                for _ in 0..MAX_HALVINGS {
+                    for ((p, q), d) in trial.iter_mut().zip(uv.iter()).zip(&duv) {
+                        *p = [q[0] + t * d[0], q[1] + t * d[1]];
+                    }
+                    let e_new = self.objective.value(&trial);
+                    if e_new <= energy + ARMIJO * t * slope {
+                        return Some(e_new);
+                    }
+                    t *= 0.5;
+                }
+                None
+            });
+            let Some(e_new) = accepted else {
+                break;
+            };
+            uv.copy_from_slice(&trial);
+            out.iterations += 1;
+            out.record(e_new);
+            progress.advance(out.iterations as u64);
+            if stop.stalled(energy, e_new) {
+                break;
+            }
+        }
+        if out.history.is_empty() {
+            out.record(self.objective.value(uv));
+        }
+        Ok(out)
+    }
+
+    /// Factors `values` (shifted as needed) and solves for the Newton step.
+    fn solve(
+        &mut self,
+        values: &mut [f64],
+        grad: &[f64],
+        step: &mut [f64],
+        clocks: &mut Clocks,
+    ) -> Result<(), String> {
+        let diagonal = &self.system.diagonal;
+        let mean =
+            diagonal.iter().map(|&p| values[p].abs()).sum::<f64>() / diagonal.len().max(1) as f64;
+        let mut shift = if self.shift { SHIFT * mean } else { 0.0 };
+        let mut applied = 0.0;
+        for _ in 0..MAX_SHIFTS {
+            for &p in diagonal {
+                values[p] += shift - applied;
+            }
+            applied = shift;
+            clocks.factorizations += 1;
+            let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
+            if timed(&mut clocks.factor, || {
+                self.cholesky.factor(col_ptr, row_idx, values)
+            }) {
+                for (s, g) in step.iter_mut().zip(grad) {
+                    *s = -g;
+                }
+                timed(&mut clocks.solve, || self.cholesky.solve(step));
+                return Ok(());
+            }
+            shift = if shift > 0.0 {
+                shift * SHIFT_GROWTH
+            } else {
+                SHIFT * mean
+            };
+        }
+        Err("the Newton system stays singular even after regularisation".into())
+    }
+}
