@@ -18,50 +18,45 @@ pub struct BatchArgs {
     #[arg(long, value_name = "DIR")]
     pub out_dir: PathBuf,
     /// Meshes flattened at the same time [default: number of cores].
-    #[arg(long, value_name = "N")]
-    pub jobs: Option<usize>,
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
+    pub jobs: Option<u16>,
     /// Redo every mesh, even those whose outputs are up to date.
     #[arg(long)]
     pub force: bool,
-    /// No progress bar and no closing tally (errors are still printed).
-    #[arg(long, short)]
-    pub quiet: bool,
     /// Options for every mesh (a manifest entry overrides them for its mesh).
     #[command(flatten)]
     pub options: FlattenOptions,
 }
 
 /// Runs the batch with `job` flattening each mesh; returns the exit code.
-pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
+/// `quiet` hides the progress bar and the closing tally (errors still print).
+pub fn run_with(args: &BatchArgs, quiet: bool, job: &dyn AssetJob) -> i32 {
     let settings = match args.options.to_settings() {
         Ok(s) => s,
         Err(e) => {
-            eprintln!("error: {e}");
+            eprintln!("{e}");
             return 2;
         }
     };
-    if args.jobs == Some(0) {
-        eprintln!("error: --jobs must be at least 1");
-        return 2;
-    }
     let config = BatchConfig {
         out_dir: args.out_dir.clone(),
-        jobs: args
-            .jobs
-            .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, usize::from)),
+        jobs: args.jobs.map_or_else(
+            || std::thread::available_parallelism().map_or(1, usize::from),
+            usize::from,
+        ),
         force: args.force,
         settings,
     };
-    let bar = Bar::new(args.quiet);
+    let bar = Bar::new(quiet);
     let result = batch::run(&args.inputs, &config, job, &bar);
     bar.0.finish_and_clear();
     match result {
         Err(e) => {
-            eprintln!("error: {e}");
+            eprintln!("{e}");
             1
         }
         Ok(summary) => {
-            if !args.quiet {
+            if !quiet {
                 for row in summary.rows.iter().filter(|r| r.renamed_from.is_some()) {
                     if let Some(output) = &row.output {
                         println!(
@@ -113,7 +108,7 @@ impl BatchObserver for Bar {
     fn finished(&self, row: &SummaryRow) {
         self.0.inc(1);
         if let Some(error) = &row.error {
-            self.0.suspend(|| eprintln!("error: {error}"));
+            self.0.suspend(|| eprintln!("{error}"));
         }
     }
 }
