@@ -144,7 +144,7 @@ fn face_metrics(mesh: &PolyMesh, uvs: &[Point2<f64>], corner_uvs: &[u32]) -> Met
             .iter()
             .map(|&(a, b)| (((scale / a).powi(2) + (scale / b).powi(2)) / 2.0).sqrt())
             .collect(),
-        flipped: sv.iter().map(|&(_, b)| !(b > 0.0)).collect(),
+        flipped: sv.iter().map(|&(_, b)| b.is_nan() || b <= 0.0).collect(),
     }
 }
 

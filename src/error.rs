@@ -37,6 +37,13 @@ pub enum Error {
     /// An option has a value out of range; the message names the option.
     #[error("{0}")]
     Settings(String),
+    /// Seams cannot be kept or chosen as asked; the message names a face and the option
+    /// to change.
+    #[error("{0}")]
+    Seams(String),
+    /// The charts cannot be packed; the message names the chart or the option to change.
+    #[error("{0}")]
+    Pack(String),
     /// The solver could not produce a valid layout for a chart.
     #[error("chart {chart}: {message}")]
     Solve {

@@ -7,8 +7,13 @@
 //! [`pack`] → [`metrics`] → outputs ([`io`], [`atlas`], [`report`]). The command
 //! line, batch runner and HTTP service all call [`pipeline`].
 
+// `!(x > 0.0)` is used on purpose: it is true for NaN as well, which is the safe
+// answer in every such test (degenerate face, step that is not a descent, …).
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 pub mod atlas;
 pub mod batch;
+pub mod charts;
 pub mod cli;
 pub mod error;
 pub mod flatten;
@@ -16,8 +21,11 @@ pub mod io;
 pub mod mesh;
 pub mod metrics;
 pub mod operators;
+pub mod pack;
+pub mod pipeline;
 pub mod preview;
 pub mod progress;
+pub mod report;
 pub mod serve;
 pub mod settings;
 

@@ -32,7 +32,7 @@ fn non_convex_faces(mesh: &PolyMesh, uvs: &[Point2<f64>]) -> usize {
                 let c = uvs[f[(i + 2) % n] as usize];
                 let cross = (b - a).perp(&(c - b));
                 // Relative threshold: corners on a straight line count as not convex.
-                !(cross > 1e-12 * (b - a).norm() * (c - b).norm())
+                cross <= 1e-12 * (b - a).norm() * (c - b).norm()
             })
         })
         .count()

@@ -183,6 +183,25 @@ fn post_head_only(address: SocketAddr, len: usize) -> String {
     String::from_utf8_lossy(&answer).into_owned()
 }
 
+/// Sends a `POST /v1/jobs` whose `len`-byte body is one chunk of a chunked transfer
+/// (no `Content-Length`) and returns the answer's text.
+fn post_chunked(address: SocketAddr, len: usize) -> String {
+    use std::io::{Read, Write};
+    let mut stream = std::net::TcpStream::connect(address).unwrap();
+    stream
+        .set_read_timeout(Some(Duration::from_secs(10)))
+        .unwrap();
+    write!(
+        stream,
+        "POST /v1/jobs HTTP/1.1\r\nHost: {address}\r\nTransfer-Encoding: chunked\r\nConnection: close\r\n\r\n{len:x}\r\n{}\r\n0\r\n\r\n",
+        "#".repeat(len)
+    )
+    .unwrap();
+    let mut answer = Vec::new();
+    let _ = stream.read_to_end(&mut answer);
+    String::from_utf8_lossy(&answer).into_owned()
+}
+
 /// Polls the job until it is done or failed; returns its final JSON.
 fn wait_finished(server: &TestServer, id: &str, limit: Duration) -> Value {
     let start = Instant::now();
@@ -283,6 +302,9 @@ fn errors_have_status_codes_and_name_the_problem() {
     let head = post_head_only(server.address, 1025);
     assert!(head.starts_with("HTTP/1.1 413"), "{head}");
     assert!(head.contains("--max-upload-mb"), "{head}");
+    // Without Content-Length the limit applies while reading.
+    let answer = post_chunked(server.address, 1025);
+    assert!(answer.starts_with("HTTP/1.1 413"), "{answer}");
 
     let unknown = JobId::generate();
     for path in [

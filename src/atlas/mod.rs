@@ -21,7 +21,7 @@ mod png;
 pub(crate) use check::check_faces;
 pub use color::{ColorScale, Oklab, ScaleKind};
 pub use legend::legend_height;
-pub use png::write_png;
+pub use png::{png_bytes, write_png};
 
 use crate::error::{Error, Result};
 use crate::mesh::PolyMesh;

@@ -27,3 +27,11 @@ pub fn write_png(path: &Path, img: &RgbaImage) -> Result<()> {
         .map_err(|e| Error::io(path, "write", e.error))?;
     Ok(())
 }
+
+/// Encodes `img` as PNG bytes in memory.
+pub fn png_bytes(img: &RgbaImage) -> Result<Vec<u8>> {
+    let mut bytes = Vec::new();
+    img.write_with_encoder(PngEncoder::new(&mut bytes))
+        .map_err(|e| Error::Image(format!("cannot encode the PNG: {e}")))?;
+    Ok(bytes)
+}

@@ -32,3 +32,30 @@ pub struct AssetOutput {
     /// Global metrics by report name; the summary picks [`super::summary::METRICS`].
     pub metrics: serde_json::Map<String, serde_json::Value>,
 }
+
+/// The production [`AssetJob`]: reads the file and runs the flattening pipeline.
+pub struct PipelineJob;
+
+impl AssetJob for PipelineJob {
+    fn run(
+        &self,
+        input: &Path,
+        settings: &Settings,
+        progress: &dyn Progress,
+    ) -> Result<AssetOutput, crate::Error> {
+        let obj = crate::io::read_obj(input)?;
+        let name = input.display().to_string();
+        let (outcome, files) = crate::pipeline::run_job(&obj, &name, settings, progress)?;
+        let mut metrics = match serde_json::to_value(&outcome.report.global) {
+            Ok(serde_json::Value::Object(map)) => map,
+            _ => serde_json::Map::new(),
+        };
+        metrics.retain(|k, _| k != "energy");
+        Ok(AssetOutput {
+            obj: files.obj,
+            report: files.report,
+            atlas: files.atlas,
+            metrics,
+        })
+    }
+}

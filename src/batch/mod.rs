@@ -17,7 +17,7 @@ pub mod naming;
 pub mod stamp;
 pub mod summary;
 
-pub use job::{AssetJob, AssetOutput};
+pub use job::{AssetJob, AssetOutput, PipelineJob};
 pub use summary::{KeyMetrics, Status, Summary, SummaryRow};
 
 use crate::progress::Progress;

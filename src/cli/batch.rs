@@ -23,18 +23,21 @@ pub struct BatchArgs {
     /// Redo every mesh, even those whose outputs are up to date.
     #[arg(long)]
     pub force: bool,
+    /// Set from the global `--quiet`: no progress bar and no closing tally.
+    #[arg(skip)]
+    pub quiet: bool,
     /// Options for every mesh (a manifest entry overrides them for its mesh).
     #[command(flatten)]
     pub options: FlattenOptions,
 }
 
 /// Runs the batch with `job` flattening each mesh; returns the exit code.
-/// `quiet` hides the progress bar and the closing tally (errors still print).
-pub fn run_with(args: &BatchArgs, quiet: bool, job: &dyn AssetJob) -> i32 {
+pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
+    let quiet = args.quiet;
     let settings = match args.options.to_settings() {
         Ok(s) => s,
         Err(e) => {
-            eprintln!("{e}");
+            eprintln!("error: {e}");
             return 2;
         }
     };
@@ -52,7 +55,7 @@ pub fn run_with(args: &BatchArgs, quiet: bool, job: &dyn AssetJob) -> i32 {
     bar.0.finish_and_clear();
     match result {
         Err(e) => {
-            eprintln!("{e}");
+            eprintln!("error: {e}");
             1
         }
         Ok(summary) => {
@@ -108,7 +111,12 @@ impl BatchObserver for Bar {
     fn finished(&self, row: &SummaryRow) {
         self.0.inc(1);
         if let Some(error) = &row.error {
-            self.0.suspend(|| eprintln!("{error}"));
+            self.0.suspend(|| eprintln!("error: {error}"));
         }
     }
+}
+
+/// Runs the batch with the flattening pipeline; returns the exit code.
+pub fn run(args: BatchArgs) -> i32 {
+    run_with(args, &crate::batch::PipelineJob)
 }

@@ -2,11 +2,13 @@
 //! and a `run` function. Exit codes: 0 success, 1 failed job, 2 bad usage.
 
 pub mod batch;
+pub mod flatten;
 pub mod inspect;
 pub mod options;
 
 use clap::{Parser, Subcommand};
 
+mod progress_bar;
 pub mod serve;
 
 /// Flattens polygon meshes into packed UV layouts without triangulating them.
@@ -26,11 +28,32 @@ pub struct Cli {
 pub enum Command {
     /// Report a mesh's counts, topology, UV charts, non-planarity and problems.
     Inspect(inspect::InspectArgs),
+    /// Flatten one mesh into a packed UV layout (OBJ), with optional report, atlas and preview.
+    Flatten(flatten::FlattenArgs),
+    /// Flatten many meshes into one folder, skipping those already up to date.
+    Batch(batch::BatchArgs),
+    /// Run the flattening HTTP service with durable jobs.
+    Serve(serve::ServeArgs),
 }
 
 /// Runs the parsed command line; returns the process exit code.
 pub fn run(cli: Cli) -> i32 {
     match cli.command {
         Command::Inspect(args) => inspect::run(&args, cli.quiet),
+        Command::Flatten(mut args) => {
+            args.quiet = cli.quiet;
+            match flatten::run(&args) {
+                Ok(()) => 0,
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    1
+                }
+            }
+        }
+        Command::Batch(mut args) => {
+            args.quiet = cli.quiet;
+            batch::run(args)
+        }
+        Command::Serve(args) => serve::run(&args, cli.quiet),
     }
 }

@@ -15,7 +15,8 @@ Example:
   curl -s http://127.0.0.1:7878/v1/jobs/ID
   curl -s -o result.obj http://127.0.0.1:7878/v1/jobs/ID/result.obj
 
-The first line printed on standard output is `listening on http://ADDR:PORT`.
+The first line printed on standard output is `listening on http://ADDR:PORT`
+(also with --quiet, which silences the job log on standard error).
 SIGTERM or Ctrl-C stops the service; jobs still running after --shutdown-grace
 are queued again and resume at the next start.";
 
@@ -44,14 +45,12 @@ pub struct ServeArgs {
     /// Seconds given to running jobs and open requests at shutdown.
     #[arg(long, value_name = "S", default_value_t = 30)]
     pub shutdown_grace: u64,
-    /// Print nothing but the listening address.
-    #[arg(long)]
-    pub quiet: bool,
 }
 
 impl ServeArgs {
-    /// The service configuration these arguments describe.
-    pub fn config(&self) -> Config {
+    /// The service configuration these arguments describe (`quiet`: log nothing but
+    /// the listening address).
+    pub fn config(&self, quiet: bool) -> Config {
         let mut config = Config::new(self.data_dir.clone());
         config.listen = self.listen;
         if let Some(n) = self.workers {
@@ -61,23 +60,28 @@ impl ServeArgs {
         config.max_upload_bytes = self.max_upload_mb as usize * 1024 * 1024;
         config.job_timeout = Duration::from_secs(self.job_timeout);
         config.shutdown_grace = Duration::from_secs(self.shutdown_grace);
-        config.quiet = self.quiet;
+        config.quiet = quiet;
         config
     }
 }
 
 /// Runs the service with `runner` until SIGTERM/SIGINT; returns the exit code.
-pub fn run_with(args: &ServeArgs, runner: Arc<dyn JobRunner>) -> i32 {
+pub fn run_with(args: &ServeArgs, quiet: bool, runner: Arc<dyn JobRunner>) -> i32 {
     let ready = |address: SocketAddr| {
         let mut out = std::io::stdout().lock();
         let _ = writeln!(out, "listening on http://{address}");
         let _ = out.flush();
     };
-    match serve::run(args.config(), runner, ready) {
+    match serve::run(args.config(quiet), runner, ready) {
         Ok(()) => 0,
         Err(e) => {
             eprintln!("polyflat serve: {e}");
             1
         }
     }
+}
+
+/// Runs the service with the flattening pipeline; returns the exit code.
+pub fn run(args: &ServeArgs, quiet: bool) -> i32 {
+    run_with(args, quiet, Arc::new(crate::serve::PipelineRunner))
 }

@@ -95,12 +95,12 @@ impl Gather {
 pub(crate) fn gradient_gather(chart: &Chart, dofs: &Dofs) -> Result<Gather, String> {
     let offsets = chart.offsets();
     Gather::build(2 * dofs.free, |emit| {
-        for f in 0..chart.face_count() {
+        for (f, &offset) in offsets.iter().enumerate().take(chart.face_count()) {
             let face = chart.face(f);
             let m = face.len();
             for a in 0..2 * m {
                 if let Some(r) = dofs.unknown(face[a % m], a / m) {
-                    emit(r, 2 * offsets[f] + a);
+                    emit(r, 2 * offset + a);
                 }
             }
         }
@@ -178,7 +178,7 @@ impl NewtonSystem {
             range.start + rows.partition_point(|&r| r < row)
         };
         let hessian = Gather::build(row_idx.len(), |emit| {
-            for f in 0..nf {
+            for (f, &offset) in hess_offsets.iter().enumerate().take(nf) {
                 let face = chart.face(f);
                 let m = face.len();
                 for a in 0..2 * m {
@@ -190,7 +190,7 @@ impl NewtonSystem {
                             continue;
                         };
                         let p = position(ra.max(rb), ra.min(rb));
-                        emit(p, hess_offsets[f] + packed_index(a, b));
+                        emit(p, offset + packed_index(a, b));
                     }
                 }
             }

@@ -14,4 +14,4 @@ mod obj_read;
 mod obj_write;
 
 pub use obj_read::{parse_obj, read_obj, ObjFile};
-pub use obj_write::{obj_to_string, write_obj};
+pub use obj_write::{obj_to_string, write_atomic, write_obj};

@@ -183,7 +183,7 @@ impl<'a> Parser<'a> {
     }
 
     fn statement(&mut self, line: &str, line_no: usize) -> Result<()> {
-        let content = match line.find('#') {
+        let content = match line.bytes().position(|b| b == b'#') {
             Some(i) => &line[..i],
             None => line,
         };
@@ -280,7 +280,7 @@ impl<'a> Parser<'a> {
     /// Resolves a 1-based (or negative, relative) index to 0-based. Positive indices
     /// are range-checked in [`Parser::finish`] so that forward references work.
     fn index(&self, token: &str, what: &str, defined: usize, line_no: usize) -> Result<u32> {
-        let value: i64 = token.parse().map_err(|_| {
+        let value = parse_int(token).ok_or_else(|| {
             self.error(
                 line_no,
                 format!("face corner `{token}` has a {what} index that is not a whole number"),
@@ -321,14 +321,9 @@ impl<'a> Parser<'a> {
     fn face<'t>(&mut self, tokens: impl Iterator<Item = &'t str>, line_no: usize) -> Result<()> {
         let start = self.face_vertices.len();
         for token in tokens {
-            let mut parts = token.split('/');
-            let v = parts.next().unwrap_or("");
-            let vt = parts.next();
-            let vn = parts.next();
-            let malformed = v.is_empty()
-                || parts.next().is_some()
-                || (vt == Some("") && vn.is_none())
-                || vn == Some("");
+            let (v, vt, vn, extra) = split_corner(token);
+            let malformed =
+                v.is_empty() || extra || (vt == Some("") && vn.is_none()) || vn == Some("");
             if malformed {
                 return Err(self.error(
                     line_no,
@@ -436,8 +431,17 @@ impl<'a> Parser<'a> {
             corner_uvs: None,
             face_lines: self.face_lines,
         };
+        let mut corners = Vec::new();
         for f in 0..face_count {
-            if let Err(e) = area_normal(&mesh.face_corners(f)) {
+            corners.clear();
+            corners.extend(
+                mesh.face_vertices
+                    .get(face_range(&mesh.face_offsets, f))
+                    .unwrap_or(&[])
+                    .iter()
+                    .filter_map(|&v| mesh.positions.get(v as usize)),
+            );
+            if let Err(e) = area_normal(&corners) {
                 let line = mesh.face_lines.get(f).copied().unwrap_or(0);
                 return Err(Error::Parse {
                     file: self.file.to_string(),
@@ -475,6 +479,53 @@ impl<'a> Parser<'a> {
             corner_normals: self.corner_normals,
         })
     }
+}
+
+/// Corner range of face `f` (empty when the offsets are inconsistent).
+fn face_range(offsets: &[usize], f: usize) -> std::ops::Range<usize> {
+    match (offsets.get(f), offsets.get(f + 1)) {
+        (Some(&a), Some(&b)) if a <= b => a..b,
+        _ => 0..0,
+    }
+}
+
+/// Splits a face corner `v[/vt[/vn]]` into its parts; the flag is set when the token
+/// has more than two slashes.
+fn split_corner(token: &str) -> (&str, Option<&str>, Option<&str>, bool) {
+    let bytes = token.as_bytes();
+    let Some(a) = bytes.iter().position(|&b| b == b'/') else {
+        return (token, None, None, false);
+    };
+    let (v, rest) = (
+        token.get(..a).unwrap_or(""),
+        token.get(a + 1..).unwrap_or(""),
+    );
+    let Some(b) = rest.bytes().position(|c| c == b'/') else {
+        return (v, Some(rest), None, false);
+    };
+    let (vt, vn) = (rest.get(..b).unwrap_or(""), rest.get(b + 1..).unwrap_or(""));
+    (v, Some(vt), Some(vn), vn.contains('/'))
+}
+
+/// A whole number with an optional sign, `None` on anything else or on overflow.
+fn parse_int(token: &str) -> Option<i64> {
+    let bytes = token.as_bytes();
+    let (negative, digits) = match bytes.first() {
+        Some(b'-') => (true, bytes.get(1..)?),
+        Some(b'+') => (false, bytes.get(1..)?),
+        _ => (false, bytes),
+    };
+    if digits.is_empty() {
+        return None;
+    }
+    let mut value: i64 = 0;
+    for &d in digits {
+        if !d.is_ascii_digit() {
+            return None;
+        }
+        value = value.checked_mul(10)?.checked_add(i64::from(d - b'0'))?;
+    }
+    Some(if negative { -value } else { value })
 }
 
 /// "1 vertex", "4 vertices", "0 normals".

@@ -126,8 +126,9 @@ pub fn write_obj(
     write_atomic(path, text.as_bytes())
 }
 
-/// Writes `bytes` to `path` through a temporary file in the same folder and a rename.
-pub(crate) fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+/// Writes `bytes` to `path` through a temporary file in the same folder and a rename,
+/// so readers see the old file or the whole new one, never a part.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
     let dir = parent_dir(path);
     let mut tmp = tempfile::NamedTempFile::new_in(&dir)
         .map_err(|e| Error::io(&dir, "create a temporary file in", e))?;

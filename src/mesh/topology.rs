@@ -484,8 +484,25 @@ impl Topology {
         let face_count = mesh.face_count();
         // Last component that counted each vertex / edge; faces are visited grouped by
         // component so each (component, element) pair counts once.
-        let mut order: Vec<u32> = (0..face_count as u32).collect();
-        order.sort_by_key(|&f| self.face_component.get(f as usize).copied().unwrap_or(NONE));
+        // Faces grouped by component (counting sort).
+        let mut starts = vec![0usize; self.components.len() + 1];
+        for &c in &self.face_component {
+            if let Some(s) = starts.get_mut(c as usize + 1) {
+                *s += 1;
+            }
+        }
+        for i in 0..self.components.len() {
+            starts[i + 1] += starts[i];
+        }
+        let mut order = vec![0u32; face_count];
+        for (f, &c) in self.face_component.iter().enumerate() {
+            if let Some(s) = starts.get_mut(c as usize) {
+                if let Some(slot) = order.get_mut(*s) {
+                    *slot = f as u32;
+                }
+                *s += 1;
+            }
+        }
         let mut vertex_mark = vec![NONE; vertex_slots];
         let mut edge_mark = vec![NONE; self.edge_count()];
         for &f in &order {

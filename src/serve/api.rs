@@ -195,14 +195,9 @@ async fn submit(State(state): State<AppState>, request: Request) -> Result<Respo
         .map_err(|e| ApiError::bad_request(format!("the query string is malformed: {e}")))?;
     let settings = parse_settings(&pairs).map_err(ApiError::bad_request)?;
     let body = read_body(request, state.max_upload_bytes).await?;
-    let text = std::str::from_utf8(&body)
-        .map_err(|e| {
-            ApiError::bad_request(format!(
-                "the mesh is not UTF-8 text (invalid byte at offset {})",
-                e.valid_up_to()
-            ))
-        })?
-        .to_owned();
+    // Like the command line's OBJ reader: bytes that are not UTF-8 (possible only in
+    // comments and names) become U+FFFD.
+    let text = String::from_utf8_lossy(&body).into_owned();
 
     let store = Arc::clone(&state.store);
     let counts = tokio::task::spawn_blocking(move || store.counts())

@@ -11,11 +11,13 @@
 
 mod api;
 mod id;
+mod pipeline_runner;
 mod runner;
 mod store;
 mod worker;
 
 pub use id::JobId;
+pub use pipeline_runner::PipelineRunner;
 pub use runner::{JobFiles, JobRunner};
 pub use store::{
     Admission, Claim, Counts, JobStatus, JobView, Recovery, Store, INPUT_FILE, RESULT_FILES,

@@ -1,0 +1,456 @@
+//! The one library entry point: mesh in, packed UV layout, metrics and report out.
+//! The command line, `batch` and `serve` all call [`flatten`] (or [`run_job`]).
+//!
+//! Stages (each timed in the report): validate → charts → solve (per chart, in
+//! parallel) → re-split over-stretched automatic charts → pack → metrics.
+
+use nalgebra::Point2;
+use rayon::prelude::*;
+use std::collections::BTreeMap;
+use std::time::Instant;
+
+use crate::atlas::{self, AtlasInput};
+use crate::charts::{self, Chart, ChartOrigin};
+use crate::error::{Error, Result};
+use crate::flatten::{self, ChartSolution, SolveOptions, Start};
+use crate::io::{self, ObjFile};
+use crate::mesh::{validate, PolyMesh, Topology};
+use crate::metrics::{self, FaceMetrics};
+use crate::pack::{self, ChartPolygons};
+use crate::progress::Progress;
+use crate::report::{self, BoundingBox, ChartReport, Global, Report};
+use crate::settings::{AtlasMetric, EnergyKind, SeamMode, Settings, SolverKind};
+
+/// How many times an automatic chart may be split again for stretch or overlap.
+const MAX_SPLIT_ROUNDS: usize = 3;
+
+/// Charts with fewer faces than this are never split again.
+const MIN_SPLIT_FACES: usize = 8;
+
+/// The result of flattening one mesh.
+#[derive(Debug, Clone)]
+pub struct Outcome {
+    /// UV values of the packed layout, in the unit square.
+    pub uvs: Vec<Point2<f64>>,
+    /// UV index of every face corner (same layout as `PolyMesh::face_vertices`).
+    pub corner_uvs: Vec<u32>,
+    /// Chart id of every face.
+    pub face_chart: Vec<u32>,
+    /// Per-face metrics of the packed layout.
+    pub face_metrics: Vec<FaceMetrics>,
+    /// The report.
+    pub report: Report,
+}
+
+/// A chart with its solution, before packing.
+struct Solved {
+    id: usize,
+    chart: Chart,
+    solution: ChartSolution,
+}
+
+/// The seam mode a run uses: the setting, or `keep` when the input has UVs and
+/// `auto` otherwise.
+pub fn seam_mode(mesh: &PolyMesh, settings: &Settings) -> SeamMode {
+    settings.seams.unwrap_or(if mesh.corner_uvs.is_some() {
+        SeamMode::Keep
+    } else {
+        SeamMode::Auto
+    })
+}
+
+/// Checks that `mesh` can be flattened; the error lists every blocking problem.
+pub fn check_mesh(mesh: &PolyMesh, topology: &Topology, file: &str) -> Result<()> {
+    let blocking: Vec<String> = validate(mesh, topology)
+        .into_iter()
+        .filter(|p| p.blocking)
+        .map(|p| p.sentence)
+        .collect();
+    if blocking.is_empty() {
+        Ok(())
+    } else {
+        Err(Error::Mesh {
+            file: file.to_string(),
+            message: blocking.join("; "),
+        })
+    }
+}
+
+/// Flattens `mesh` (read from `input_name`) with `settings`.
+pub fn flatten(
+    mesh: &PolyMesh,
+    input_name: &str,
+    settings: &Settings,
+    progress: &dyn Progress,
+) -> Result<Outcome> {
+    settings.validate().map_err(Error::Settings)?;
+    match settings.threads {
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| Error::Settings(format!("--threads {n}: {e}")))?
+            .install(|| flatten_inner(mesh, input_name, settings, progress)),
+        None => flatten_inner(mesh, input_name, settings, progress),
+    }
+}
+
+fn flatten_inner(
+    mesh: &PolyMesh,
+    input_name: &str,
+    settings: &Settings,
+    progress: &dyn Progress,
+) -> Result<Outcome> {
+    let mut timings = BTreeMap::new();
+    let mut clock = Instant::now();
+    let mut lap = |name: &str, timings: &mut BTreeMap<String, f64>| {
+        let now = Instant::now();
+        timings.insert(name.to_string(), (now - clock).as_secs_f64() * 1e3);
+        clock = now;
+    };
+
+    let topology = Topology::build(mesh);
+    check_mesh(mesh, &topology, input_name)?;
+    lap("validate", &mut timings);
+
+    let mode = seam_mode(mesh, settings);
+    let charts = charts::build(mesh, &topology, mode).map_err(|e| in_file(e, input_name))?;
+    lap("charts", &mut timings);
+
+    let options = SolveOptions::from_settings(settings, 0);
+    progress.begin("flattening charts", charts.len() as u64);
+    let mut solved = solve_all(mesh, charts, &options, progress)?;
+    progress.end();
+    lap("solve", &mut timings);
+
+    if mode == SeamMode::Auto {
+        solved = split_over_stretched(mesh, solved, settings, &options, progress)?;
+        lap("resplit", &mut timings);
+    }
+    for (id, s) in solved.iter_mut().enumerate() {
+        s.id = id;
+    }
+
+    progress.begin("packing", 0);
+    let polygons: Vec<ChartPolygons> = solved.iter().map(|s| chart_polygons(mesh, s)).collect();
+    let packing = pack::pack(&polygons, settings.resolution, settings.padding)?;
+    progress.end();
+    lap("pack", &mut timings);
+
+    let mut uvs = Vec::new();
+    let mut corner_uvs = vec![u32::MAX; mesh.corner_count()];
+    let mut face_chart = vec![u32::MAX; mesh.face_count()];
+    for (s, placement) in solved.iter().zip(&packing.placements) {
+        let base = uvs.len() as u32;
+        uvs.extend(s.solution.uvs.iter().map(|p| placement.apply(p)));
+        let mut k = 0;
+        for &f in &s.chart.faces {
+            face_chart[f as usize] = s.id as u32;
+            for c in mesh.face_range(f as usize) {
+                corner_uvs[c] = base + s.chart.corners[k];
+                k += 1;
+            }
+        }
+    }
+    if let Some(f) = face_chart.iter().position(|&c| c == u32::MAX) {
+        return Err(Error::Mesh {
+            file: input_name.to_string(),
+            message: format!("{} was left out of every chart", mesh.face_label(f)),
+        });
+    }
+
+    let laid = PolyMesh {
+        uvs: uvs.clone(),
+        corner_uvs: Some(corner_uvs.clone()),
+        ..mesh.clone()
+    };
+    let face_metrics = metrics::face_metrics(mesh, &uvs, &corner_uvs)?;
+    let global_metrics = metrics::summarize(&laid, &face_metrics, None);
+    let chart_reports: Vec<ChartReport> = solved
+        .iter()
+        .map(|s| chart_report(&laid, &face_metrics, s))
+        .collect();
+    lap("metrics", &mut timings);
+
+    let report = Report {
+        tool: report::Tool::this(),
+        input: report::Input {
+            path: input_name.to_string(),
+            vertices: topology.used_vertices,
+            faces: mesh.face_count(),
+            arity_histogram: report::arity_histogram(mesh),
+            had_uvs: mesh.corner_uvs.is_some(),
+        },
+        settings: Settings {
+            seams: Some(mode),
+            ..settings.clone()
+        },
+        global: Global {
+            metrics: global_metrics,
+            charts: solved.len(),
+            energy: settings.energy.to_string(),
+            iterations: solved.iter().map(|s| s.solution.iterations).sum(),
+        },
+        charts: chart_reports,
+        timings_ms: timings,
+        history: total_history(&solved),
+    };
+    Ok(Outcome {
+        uvs,
+        corner_uvs,
+        face_chart,
+        face_metrics,
+        report,
+    })
+}
+
+/// Names the input file in errors that do not already.
+fn in_file(e: Error, file: &str) -> Error {
+    match e {
+        Error::Mesh { message, .. } => Error::Mesh {
+            file: file.to_string(),
+            message,
+        },
+        other => other,
+    }
+}
+
+/// The starting layout for an energy: flip-free Tutte for the barrier energy, the
+/// least-squares conformal map otherwise (a closer start for ARAP; exact for conformal).
+fn start_for(energy: EnergyKind) -> Start<'static> {
+    match energy {
+        EnergyKind::SymmetricDirichlet => Start::Tutte,
+        EnergyKind::Arap | EnergyKind::Conformal => Start::Conformal,
+    }
+}
+
+fn solve_all(
+    mesh: &PolyMesh,
+    charts: Vec<Chart>,
+    options: &SolveOptions,
+    progress: &dyn Progress,
+) -> Result<Vec<Solved>> {
+    let done = std::sync::atomic::AtomicU64::new(0);
+    charts
+        .into_par_iter()
+        .enumerate()
+        .map(|(id, chart)| {
+            let chart_mesh = chart.mesh(mesh);
+            let opts = SolveOptions {
+                chart_id: id,
+                ..*options
+            };
+            let solution = flatten::solve_chart(
+                &chart_mesh,
+                &opts,
+                start_for(options.energy),
+                &crate::progress::Silent,
+            )?;
+            let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            progress.advance(n);
+            Ok(Solved {
+                id,
+                chart,
+                solution,
+            })
+        })
+        .collect()
+}
+
+/// Splits automatic charts whose L2 stretch exceeds `--max-stretch`, or that
+/// overlap or fold on themselves, and flattens the pieces again.
+fn split_over_stretched(
+    mesh: &PolyMesh,
+    mut solved: Vec<Solved>,
+    settings: &Settings,
+    options: &SolveOptions,
+    progress: &dyn Progress,
+) -> Result<Vec<Solved>> {
+    for _ in 0..MAX_SPLIT_ROUNDS {
+        let (bad, good): (Vec<Solved>, Vec<Solved>) = solved
+            .into_par_iter()
+            .partition(|s| needs_split(mesh, s, settings.max_stretch));
+        solved = good;
+        if bad.is_empty() {
+            break;
+        }
+        let pieces: Vec<Chart> = bad
+            .iter()
+            .flat_map(|s| charts::split_chart(mesh, &s.chart))
+            .collect();
+        progress.begin("re-flattening split charts", pieces.len() as u64);
+        solved.extend(solve_all(mesh, pieces, options, progress)?);
+        progress.end();
+    }
+    Ok(solved)
+}
+
+fn needs_split(mesh: &PolyMesh, s: &Solved, max_stretch: f64) -> bool {
+    if s.chart.origin == ChartOrigin::Kept || s.chart.faces.len() < MIN_SPLIT_FACES {
+        return false;
+    }
+    let chart_mesh = s.chart.mesh(mesh);
+    let corners = &chart_mesh.face_vertices;
+    let Ok(fm) = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners) else {
+        return true;
+    };
+    let laid = PolyMesh {
+        uvs: s.solution.uvs.clone(),
+        corner_uvs: Some(corners.clone()),
+        ..chart_mesh
+    };
+    let m = metrics::summarize(&laid, &fm, None);
+    m.stretch_l2 > max_stretch || m.overlapping_face_pairs > 0 || m.flipped_faces > 0
+}
+
+fn chart_polygons(mesh: &PolyMesh, s: &Solved) -> ChartPolygons {
+    let mut faces = Vec::with_capacity(s.chart.faces.len());
+    let mut k = 0;
+    for &f in &s.chart.faces {
+        let n = mesh.arity(f as usize);
+        faces.push(s.chart.corners[k..k + n].to_vec());
+        k += n;
+    }
+    ChartPolygons {
+        points: s.solution.uvs.clone(),
+        faces,
+    }
+}
+
+fn chart_report(laid: &PolyMesh, face_metrics: &[FaceMetrics], s: &Solved) -> ChartReport {
+    let (mut min, mut max) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+    let mut area_3d = 0.0;
+    let mut area_uv = 0.0;
+    for &f in &s.chart.faces {
+        let m = &face_metrics[f as usize];
+        area_3d += m.area_3d;
+        area_uv += m.area_uv.abs();
+        if let Some(uv_idx) = laid.face_uv_indices(f as usize) {
+            for &t in uv_idx {
+                let p = laid.uvs[t as usize];
+                min = [min[0].min(p.x), min[1].min(p.y)];
+                max = [max[0].max(p.x), max[1].max(p.y)];
+            }
+        }
+    }
+    ChartReport {
+        id: s.id,
+        faces: s.chart.faces.len(),
+        area_3d,
+        area_uv,
+        bounding_box: BoundingBox { min, max },
+        origin: origin_name(s.chart.origin).to_string(),
+        mirrored_in_input: s.chart.mirrored_in_input,
+        iterations: s.solution.iterations,
+        solver: s.solution.solver.to_string(),
+        metrics: metrics::summarize(laid, face_metrics, Some(&s.chart.faces)),
+    }
+}
+
+fn origin_name(origin: ChartOrigin) -> &'static str {
+    match origin {
+        ChartOrigin::Kept => "kept",
+        ChartOrigin::Auto => "auto",
+        ChartOrigin::Split => "split",
+    }
+}
+
+/// Sum over charts of each chart's energy after iteration `k` (a chart that has
+/// stopped keeps its last value).
+fn total_history(solved: &[Solved]) -> Vec<f64> {
+    let longest = solved
+        .iter()
+        .map(|s| s.solution.history.len())
+        .max()
+        .unwrap_or(0);
+    (0..longest)
+        .map(|k| {
+            solved
+                .iter()
+                .filter_map(|s| {
+                    let h = &s.solution.history;
+                    h.get(k).or(h.last())
+                })
+                .sum()
+        })
+        .collect()
+}
+
+/// The files one job produces, as bytes.
+#[derive(Debug, Clone)]
+pub struct JobFiles {
+    /// The OBJ with the new UVs.
+    pub obj: Vec<u8>,
+    /// The report JSON (pretty-printed).
+    pub report: Vec<u8>,
+    /// The distortion atlas PNG.
+    pub atlas: Vec<u8>,
+}
+
+/// Flattens an OBJ already read and renders the three standard outputs in memory.
+pub fn run_job(
+    obj: &ObjFile,
+    input_name: &str,
+    settings: &Settings,
+    progress: &dyn Progress,
+) -> Result<(Outcome, JobFiles)> {
+    let outcome = flatten(&obj.mesh, input_name, settings, progress)?;
+    let files = JobFiles {
+        obj: io::obj_to_string(obj, &outcome.uvs, &outcome.corner_uvs).into_bytes(),
+        report: report_bytes(&outcome.report)?,
+        atlas: atlas_png(obj, &outcome, settings.atlas_metric, settings.resolution)?,
+    };
+    Ok((outcome, files))
+}
+
+/// The report as pretty-printed JSON bytes.
+pub fn report_bytes(report: &Report) -> Result<Vec<u8>> {
+    let mut bytes = serde_json::to_vec_pretty(report)
+        .map_err(|e| Error::Settings(format!("cannot encode the report: {e}")))?;
+    bytes.push(b'\n');
+    Ok(bytes)
+}
+
+/// Renders the distortion atlas of `outcome` as PNG bytes.
+pub fn atlas_png(
+    obj: &ObjFile,
+    outcome: &Outcome,
+    metric: AtlasMetric,
+    resolution: u32,
+) -> Result<Vec<u8>> {
+    let s = metrics::global_scale(&outcome.face_metrics, None);
+    let values: Vec<f64> = outcome
+        .face_metrics
+        .iter()
+        .map(|m| match metric {
+            AtlasMetric::Angle => m.angle_distortion,
+            // Signed: below 0 the face got fewer texels than average, above 0 more.
+            AtlasMetric::Area => (m.sigma1 * m.sigma2.abs() / (s * s)).ln(),
+            AtlasMetric::Stretch => m.stretch_l2,
+        })
+        .collect();
+    let flipped: Vec<bool> = outcome.face_metrics.iter().map(|m| m.flipped).collect();
+    let image = atlas::render_atlas(
+        &AtlasInput {
+            mesh: &obj.mesh,
+            uvs: &outcome.uvs,
+            corner_uvs: &outcome.corner_uvs,
+            face_values: &values,
+            metric,
+            flipped: &flipped,
+            face_chart: &outcome.face_chart,
+        },
+        resolution,
+    )?;
+    atlas::png_bytes(&image)
+}
+
+/// Whether a solver choice makes sense for an energy (local–global is ARAP's).
+pub fn check_solver(settings: &Settings) -> Result<()> {
+    if settings.solver == SolverKind::LocalGlobal && settings.energy != EnergyKind::Arap {
+        return Err(Error::Settings(format!(
+            "--solver local-global works only with --energy arap, not {}",
+            settings.energy
+        )));
+    }
+    Ok(())
+}
