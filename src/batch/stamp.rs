@@ -149,8 +149,13 @@ impl OutputPaths {
 /// Writes `bytes` to a flushed temporary file beside `path`.
 fn temp_with(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, Error> {
     let dir = path.parent().unwrap_or(Path::new("."));
-    let mut temp = tempfile::Builder::new()
-        .prefix(TEMP_PREFIX)
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(TEMP_PREFIX);
+    // Outputs get the permissions of any new file (0o666 less the umask), not the
+    // owner-only default of temporary files.
+    #[cfg(unix)]
+    builder.permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666));
+    let mut temp = builder
         .tempfile_in(dir)
         .map_err(|e| Error::io(path, "create a temporary file for", e))?;
     temp.write_all(bytes)
