@@ -95,6 +95,7 @@ impl Bar {
         {
             bar.set_style(style);
         }
+        bar.enable_steady_tick(std::time::Duration::from_millis(250));
         Bar(bar)
     }
 }
