@@ -377,3 +377,25 @@ fn a_folder_scan_leaves_out_the_output_folder_and_hidden_entries() {
     assert_eq!(s.rows.len(), 1, "{s:?}");
     assert_eq!(s.rows[0].status, Status::Skipped);
 }
+
+#[cfg(unix)]
+#[test]
+fn outputs_get_the_permissions_of_an_ordinary_new_file() {
+    use std::os::unix::fs::PermissionsExt;
+    let tmp = tempfile::tempdir().unwrap();
+    let m = write(tmp.path(), "in/m.obj", &grid_obj(1));
+    let out = tmp.path().join("out");
+    run(&[m.as_path()], &config(&out), &FakeJob::default());
+    // Reference: a file created by std::fs::write in the same folder (0o666 less the umask).
+    let reference = write(&out, "reference.txt", "x");
+    let mode = |p: &Path| std::fs::metadata(p).unwrap().permissions().mode() & 0o777;
+    for f in [
+        "m.obj",
+        "m.report.json",
+        "m.atlas.png",
+        "summary.json",
+        "summary.csv",
+    ] {
+        assert_eq!(mode(&out.join(f)), mode(&reference), "{f}");
+    }
+}

@@ -13,6 +13,8 @@ pub struct Planned {
     pub input: PathBuf,
     /// The asset's effective settings, or why this input yields no asset.
     pub settings: Result<Settings, String>,
+    /// The asset's output name ([`super::naming`]); empty until named.
+    pub name: String,
 }
 
 /// Expands `inputs` in order: a folder gives its `*.obj` files (recursively,
@@ -26,12 +28,14 @@ pub fn expand(inputs: &[PathBuf], base: &Settings, out_dir: &Path) -> Result<Vec
     let asset = |input: PathBuf, settings: Settings| Planned {
         input,
         settings: Ok(settings),
+        name: String::new(),
     };
     let mut planned = Vec::new();
     for input in inputs {
         let failed = |error: String| Planned {
             input: input.clone(),
             settings: Err(error),
+            name: String::new(),
         };
         match std::fs::metadata(input) {
             Err(e) => planned.push(failed(Error::io(input, "read", e).to_string())),

@@ -83,35 +83,30 @@ pub fn run(
     stamp::remove_stale_temps(dir)?;
     stamp::remove_stale_temps(&stamps)?;
 
-    let absolute: Vec<PathBuf> = planned
+    let mut planned = planned;
+    let assets: Vec<&mut Planned> = planned.iter_mut().filter(|p| p.settings.is_ok()).collect();
+    let absolute: Vec<PathBuf> = assets
         .iter()
-        .filter(|p| p.settings.is_ok())
         .map(|p| std::path::absolute(&p.input).unwrap_or_else(|_| p.input.clone()))
         .collect();
-    let mut names =
-        naming::output_names(&absolute.iter().map(PathBuf::as_path).collect::<Vec<_>>())
-            .into_iter();
-    let named: Vec<(Planned, Option<String>)> = planned
-        .into_iter()
-        .map(|p| {
-            let name = p.settings.is_ok().then(|| names.next()).flatten();
-            (p, name)
-        })
-        .collect();
-    observer.planned(named.len());
+    let names = naming::output_names(&absolute.iter().map(PathBuf::as_path).collect::<Vec<_>>());
+    let count = assets.len();
+    for (asset, name) in assets.into_iter().zip(names) {
+        asset.name = name;
+    }
+    observer.planned(planned.len());
 
-    let assets = named.iter().filter(|(_, n)| n.is_some()).count();
-    let jobs = config.jobs.clamp(1, assets.max(1));
+    let jobs = config.jobs.clamp(1, count.max(1));
     let cores = std::thread::available_parallelism().map_or(1, usize::from);
     let threads = (cores / jobs).max(1);
-    let slots: Vec<Mutex<Option<SummaryRow>>> = named.iter().map(|_| Mutex::new(None)).collect();
+    let slots: Vec<Mutex<Option<SummaryRow>>> = planned.iter().map(|_| Mutex::new(None)).collect();
     let next = AtomicUsize::new(0);
     let worker = || loop {
         let i = next.fetch_add(1, Ordering::Relaxed);
-        let (Some((planned, name)), Some(slot)) = (named.get(i), slots.get(i)) else {
+        let (Some(planned), Some(slot)) = (planned.get(i), slots.get(i)) else {
             break;
         };
-        let row = run_one(planned, name.as_deref(), threads, config, job, observer);
+        let row = run_one(planned, threads, config, job, observer);
         observer.finished(&row);
         *slot.lock().unwrap_or_else(|e| e.into_inner()) = Some(row);
     };
@@ -147,7 +142,6 @@ impl Progress for AssetProgress<'_> {
 /// Runs (or skips) one row; never panics, whatever the job does.
 fn run_one(
     planned: &Planned,
-    name: Option<&str>,
     threads: usize,
     config: &BatchConfig,
     job: &dyn AssetJob,
@@ -155,21 +149,25 @@ fn run_one(
 ) -> SummaryRow {
     let start = Instant::now();
     let input = planned.input.display().to_string();
+    let name = planned.name.as_str();
     let stem = planned
         .input
         .file_stem()
-        .map(|s| s.to_string_lossy().into_owned());
+        .unwrap_or_default()
+        .to_string_lossy();
     let mut row = SummaryRow {
         input: input.clone(),
-        output: name.map(|n| format!("{n}.obj")),
-        renamed_from: name.and(stem).filter(|s| Some(s.as_str()) != name),
+        output: None,
+        renamed_from: None,
         status: Status::Failed,
         error: None,
         time_ms: 0,
         metrics: KeyMetrics::default(),
     };
-    let outcome = match (&planned.settings, name) {
-        (Ok(settings), Some(name)) => {
+    let outcome = match &planned.settings {
+        Ok(settings) => {
+            row.output = Some(format!("{name}.obj"));
+            row.renamed_from = (stem != name).then(|| stem.into_owned());
             let paths = OutputPaths::new(&config.out_dir, name);
             let settings = Settings {
                 threads: settings.threads.or(Some(threads)),
@@ -186,8 +184,7 @@ fn run_one(
                 &progress,
             )
         }
-        (Err(error), _) => Err(error.clone()),
-        (Ok(_), None) => Err(format!("{input}: no output name was chosen")),
+        Err(error) => Err(error.clone()),
     };
     match outcome {
         Ok((status, metrics)) => {

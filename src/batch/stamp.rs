@@ -109,8 +109,9 @@ impl OutputPaths {
     }
 
     /// Writes the three outputs, then the stamp, each atomically (temporary file
-    /// in the same folder, flushed, renamed). A stale stamp is removed first, so
-    /// an interruption at any point leaves no stamp that vouches for old files.
+    /// in the same folder, flushed, renamed; the folder flushed after the renames).
+    /// A stale stamp is removed first, so an interruption at any point leaves no
+    /// stamp that vouches for other files.
     pub fn write(
         &self,
         input: &str,
@@ -134,6 +135,7 @@ impl OutputPaths {
         for (temp, path) in temps.into_iter().zip(&self.outputs) {
             persist(temp, path)?;
         }
+        sync_folder(&self.outputs[0])?;
         let stamp = Stamp {
             tool: tool_version(),
             input: input.to_owned(),
@@ -142,15 +144,37 @@ impl OutputPaths {
             metrics: metrics.clone(),
         };
         let bytes = serde_json::to_vec_pretty(&stamp).unwrap_or_default();
-        persist(temp_with(&self.stamp, &bytes)?, &self.stamp)
+        persist(temp_with(&self.stamp, &bytes)?, &self.stamp)?;
+        sync_folder(&self.stamp)
     }
+}
+
+/// Makes the renames into `file`'s folder durable, so that after a power loss the
+/// stamp never survives without the outputs it vouches for (Unix; elsewhere the
+/// rename is all there is).
+fn sync_folder(file: &Path) -> Result<(), Error> {
+    #[cfg(unix)]
+    {
+        let dir = file.parent().unwrap_or(Path::new("."));
+        std::fs::File::open(dir)
+            .and_then(|d| d.sync_all())
+            .map_err(|e| Error::io(dir, "flush", e))?;
+    }
+    #[cfg(not(unix))]
+    let _ = file;
+    Ok(())
 }
 
 /// Writes `bytes` to a flushed temporary file beside `path`.
 fn temp_with(path: &Path, bytes: &[u8]) -> Result<tempfile::NamedTempFile, Error> {
     let dir = path.parent().unwrap_or(Path::new("."));
-    let mut temp = tempfile::Builder::new()
-        .prefix(TEMP_PREFIX)
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(TEMP_PREFIX);
+    // Outputs get the permissions of any new file (0o666 less the umask), not the
+    // owner-only default of temporary files.
+    #[cfg(unix)]
+    builder.permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666));
+    let mut temp = builder
         .tempfile_in(dir)
         .map_err(|e| Error::io(path, "create a temporary file for", e))?;
     temp.write_all(bytes)

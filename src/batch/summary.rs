@@ -59,7 +59,8 @@ pub struct SummaryRow {
     /// The input path as given (manifest entries: joined to the manifest's folder).
     pub input: String,
     /// The OBJ output's file name inside DIR (`<name>.obj`; the report and atlas
-    /// share `<name>`); `None` when the input could not be read as an asset.
+    /// share `<name>`), written when the status is done or skipped; `None` when
+    /// the input is not an asset (a missing path, a folder without OBJ files).
     pub output: Option<String>,
     /// The input's own stem when a name clash gave it another `<name>`.
     pub renamed_from: Option<String>,

@@ -18,8 +18,8 @@ pub struct BatchArgs {
     #[arg(long, value_name = "DIR")]
     pub out_dir: PathBuf,
     /// Meshes flattened at the same time [default: number of cores].
-    #[arg(long, value_name = "N")]
-    pub jobs: Option<usize>,
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u16).range(1..))]
+    pub jobs: Option<u16>,
     /// Redo every mesh, even those whose outputs are up to date.
     #[arg(long)]
     pub force: bool,
@@ -33,6 +33,7 @@ pub struct BatchArgs {
 
 /// Runs the batch with `job` flattening each mesh; returns the exit code.
 pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
+    let quiet = args.quiet;
     let settings = match args.options.to_settings() {
         Ok(s) => s,
         Err(e) => {
@@ -40,19 +41,16 @@ pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
             return 2;
         }
     };
-    if args.jobs == Some(0) {
-        eprintln!("error: --jobs must be at least 1");
-        return 2;
-    }
     let config = BatchConfig {
         out_dir: args.out_dir.clone(),
-        jobs: args
-            .jobs
-            .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, usize::from)),
+        jobs: args.jobs.map_or_else(
+            || std::thread::available_parallelism().map_or(1, usize::from),
+            usize::from,
+        ),
         force: args.force,
         settings,
     };
-    let bar = Bar::new(args.quiet);
+    let bar = Bar::new(quiet);
     let result = batch::run(&args.inputs, &config, job, &bar);
     bar.0.finish_and_clear();
     match result {
@@ -61,7 +59,7 @@ pub fn run_with(args: BatchArgs, job: &dyn AssetJob) -> i32 {
             1
         }
         Ok(summary) => {
-            if !args.quiet {
+            if !quiet {
                 for row in summary.rows.iter().filter(|r| r.renamed_from.is_some()) {
                     if let Some(output) = &row.output {
                         println!(
@@ -97,6 +95,7 @@ impl Bar {
         {
             bar.set_style(style);
         }
+        bar.enable_steady_tick(std::time::Duration::from_millis(250));
         Bar(bar)
     }
 }
