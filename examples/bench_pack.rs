@@ -1,11 +1,17 @@
-//! Packing figures: utilization and time on synthetic chart sets.
+//! Packing figures: utilization and time on synthetic chart sets, then whole runs
+//! (charts, flattening, packing) on the bundled fixtures and the shared Spot fixture
+//! with charts, utilization and stretch.
 //!
-//! Run: `cargo run --release --example bench_pack`
+//! Run: `cargo run --release --example bench_pack` (`-- big` for the 1000-chart set
+//! only).
 
 use nalgebra::Point2;
 use polyflat::pack::{pack, ChartPolygons};
+use polyflat::settings::SeamMode;
+use polyflat::Settings;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
+use std::path::{Path, PathBuf};
 use std::time::Instant;
 
 fn polygon(points: Vec<Point2<f64>>) -> ChartPolygons {
@@ -111,4 +117,65 @@ fn main() {
         1024,
         4,
     );
+    println!();
+    whole_runs();
+}
+
+/// Flattens every fixture at 1024 px with 4 px padding and prints the layout figures.
+fn whole_runs() {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let mut files: Vec<(PathBuf, Option<SeamMode>)> = [
+        "quad_grid.obj",
+        "mixed_planar.obj",
+        "wavy_quads.obj",
+        "cube_quads.obj",
+        "hex_cylinder.obj",
+        "torus_quads.obj",
+    ]
+    .iter()
+    .map(|n| (root.join("fixtures").join(n), None))
+    .collect();
+    let spot = root.join("../shared/fixtures/spot/spot_quadrangulated.obj");
+    if spot.is_file() {
+        files.push((spot.clone(), Some(SeamMode::Keep)));
+        files.push((spot, Some(SeamMode::Auto)));
+    } else {
+        println!("(Spot fixture not found beside the repository: skipped)");
+    }
+    println!(
+        "{:<28} {:>5} {:>6} {:>6} {:>11} {:>10} {:>9}",
+        "fixture", "seams", "faces", "charts", "utilization", "stretch L2", "time ms"
+    );
+    for (path, seams) in files {
+        let name = path.file_name().map(|n| n.to_string_lossy().to_string());
+        let name = name.unwrap_or_default();
+        let obj = match polyflat::io::read_obj(&path) {
+            Ok(o) => o,
+            Err(e) => {
+                println!("{name:<28} failed: {e}");
+                continue;
+            }
+        };
+        let settings = Settings {
+            seams,
+            ..Settings::default()
+        };
+        let start = Instant::now();
+        match polyflat::pipeline::flatten(&obj.mesh, &name, &settings, &polyflat::progress::Silent)
+        {
+            Ok(out) => {
+                let g = &out.report.global;
+                println!(
+                    "{name:<28} {:>5} {:>6} {:>6} {:>11.3} {:>10.4} {:>9.0}",
+                    out.report.settings.seams.map_or("", |s| s.as_str()),
+                    out.report.input.faces,
+                    g.charts,
+                    g.metrics.utilization,
+                    g.metrics.stretch_l2,
+                    start.elapsed().as_secs_f64() * 1e3
+                );
+            }
+            Err(e) => println!("{name:<28} failed: {e}"),
+        }
+    }
 }

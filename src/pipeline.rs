@@ -22,10 +22,19 @@ use crate::report::{self, BoundingBox, ChartReport, Global, Report};
 use crate::settings::{AtlasMetric, EnergyKind, SeamMode, Settings, SolverKind};
 
 /// How many times an automatic chart may be split again for stretch or overlap.
-const MAX_SPLIT_ROUNDS: usize = 3;
+const MAX_SPLIT_ROUNDS: usize = 6;
 
 /// Charts with fewer faces than this are never split again.
-const MIN_SPLIT_FACES: usize = 8;
+const MIN_SPLIT_FACES: usize = 2;
+
+/// Rounds of pairwise merging of neighbouring automatic charts at most.
+const MAX_MERGE_ROUNDS: usize = 8;
+
+/// A merge of two automatic charts is kept when the joined chart's L2 stretch stays
+/// within this fraction of the way from 1 to `--max-stretch` (1.10 at the default
+/// 1.25), with no fold and no self-overlap: merging trades distortion for fewer
+/// seams, and this keeps most of the room below the limit unused.
+const MERGE_HEADROOM: f64 = 0.4;
 
 /// The result of flattening one mesh.
 #[derive(Debug, Clone)]
@@ -59,16 +68,21 @@ pub fn seam_mode(mesh: &PolyMesh, settings: &Settings) -> SeamMode {
     })
 }
 
-/// Checks that `mesh` can be flattened; the error lists every blocking problem.
-pub fn check_mesh(mesh: &PolyMesh, topology: &Topology, file: &str) -> Result<()> {
-    let blocking: Vec<String> = validate(mesh, topology)
+/// Checks that `mesh` can be flattened; the error lists every blocking problem that
+/// seams cannot cut through. Returns the sentences of the problems the charts will
+/// cut seams through (for the report's `input.notes`).
+pub fn check_mesh(mesh: &PolyMesh, topology: &Topology, file: &str) -> Result<Vec<String>> {
+    let (cut, blocking): (Vec<_>, Vec<_>) = validate(mesh, topology)
         .into_iter()
         .filter(|p| p.blocking)
-        .map(|p| p.sentence)
-        .collect();
+        .partition(|p| p.cut_by_seams);
     if blocking.is_empty() {
-        Ok(())
+        Ok(cut
+            .into_iter()
+            .map(|p| format!("{}; polyflat cut a seam there", p.sentence))
+            .collect())
     } else {
+        let blocking: Vec<String> = blocking.into_iter().map(|p| p.sentence).collect();
         Err(Error::Mesh {
             file: file.to_string(),
             message: blocking.join("; "),
@@ -109,7 +123,7 @@ fn flatten_inner(
     };
 
     let topology = Topology::build(mesh);
-    check_mesh(mesh, &topology, input_name)?;
+    let notes = check_mesh(mesh, &topology, input_name)?;
     lap("validate", &mut timings);
 
     let mode = seam_mode(mesh, settings);
@@ -125,6 +139,8 @@ fn flatten_inner(
     if mode == SeamMode::Auto {
         solved = split_over_stretched(mesh, solved, settings, &options, progress)?;
         lap("resplit", &mut timings);
+        solved = merge_neighbours(mesh, &topology, solved, settings, &options, progress);
+        lap("merge", &mut timings);
     }
     for (id, s) in solved.iter_mut().enumerate() {
         s.id = id;
@@ -179,6 +195,7 @@ fn flatten_inner(
             faces: mesh.face_count(),
             arity_histogram: report::arity_histogram(mesh),
             had_uvs: mesh.corner_uvs.is_some(),
+            notes,
         },
         settings: Settings {
             seams: Some(mode),
@@ -288,10 +305,16 @@ fn needs_split(mesh: &PolyMesh, s: &Solved, max_stretch: f64) -> bool {
     if s.chart.origin == ChartOrigin::Kept || s.chart.faces.len() < MIN_SPLIT_FACES {
         return false;
     }
+    !flattens_within(mesh, s, max_stretch)
+}
+
+/// Whether a solved chart's L2 stretch is at most `limit` with no fold and no
+/// self-overlap.
+fn flattens_within(mesh: &PolyMesh, s: &Solved, limit: f64) -> bool {
     let chart_mesh = s.chart.mesh(mesh);
     let corners = &chart_mesh.face_vertices;
     let Ok(fm) = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners) else {
-        return true;
+        return false;
     };
     let laid = PolyMesh {
         uvs: s.solution.uvs.clone(),
@@ -299,7 +322,133 @@ fn needs_split(mesh: &PolyMesh, s: &Solved, max_stretch: f64) -> bool {
         ..chart_mesh
     };
     let m = metrics::summarize(&laid, &fm, None);
-    m.stretch_l2 > max_stretch || m.overlapping_face_pairs > 0 || m.flipped_faces > 0
+    m.stretch_l2 <= limit && m.overlapping_face_pairs == 0 && m.flipped_faces == 0
+}
+
+/// Undoes over-segmentation: in rounds, pairs each automatic chart with the
+/// neighbour it shares most edges with (a greedy matching, largest shares first),
+/// flattens every pair joined ([`charts::merge_charts`]) and keeps the joined chart
+/// when it flattens within [`MERGE_HEADROOM`]. A rejected pair is not tried again.
+fn merge_neighbours(
+    mesh: &PolyMesh,
+    topology: &Topology,
+    mut solved: Vec<Solved>,
+    settings: &Settings,
+    options: &SolveOptions,
+    progress: &dyn Progress,
+) -> Vec<Solved> {
+    let limit = 1.0 + MERGE_HEADROOM * (settings.max_stretch - 1.0);
+    let key = |c: &Chart| (c.faces.first().copied(), c.faces.len());
+    let mut rejected = std::collections::HashSet::new();
+    for _ in 0..MAX_MERGE_ROUNDS {
+        let pairs = merge_candidates(mesh, topology, &solved);
+        let mut used = vec![false; solved.len()];
+        let mut chosen = Vec::new();
+        for (a, b) in pairs {
+            let pair_key = (key(&solved[a].chart), key(&solved[b].chart));
+            if !used[a] && !used[b] && !rejected.contains(&pair_key) {
+                used[a] = true;
+                used[b] = true;
+                chosen.push((a, b, pair_key));
+            }
+        }
+        if chosen.is_empty() {
+            break;
+        }
+        progress.begin("merging charts", chosen.len() as u64);
+        let done = std::sync::atomic::AtomicU64::new(0);
+        let merged: Vec<Option<Solved>> = chosen
+            .par_iter()
+            .map(|&(a, b, _)| {
+                let joined =
+                    charts::merge_charts(mesh, topology, &solved[a].chart, &solved[b].chart);
+                let result = joined.and_then(|chart| {
+                    let solution = flatten::solve_chart(
+                        &chart.mesh(mesh),
+                        options,
+                        start_for(options.energy),
+                        &crate::progress::Silent,
+                    )
+                    .ok()?;
+                    let s = Solved {
+                        id: 0,
+                        chart,
+                        solution,
+                    };
+                    flattens_within(mesh, &s, limit).then_some(s)
+                });
+                let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+                progress.advance(n);
+                result
+            })
+            .collect();
+        progress.end();
+        let mut gone = vec![false; solved.len()];
+        let mut joined = Vec::new();
+        for ((a, b, pair_key), m) in chosen.into_iter().zip(merged) {
+            match m {
+                Some(s) => {
+                    gone[a] = true;
+                    gone[b] = true;
+                    joined.push(s);
+                }
+                None => {
+                    rejected.insert(pair_key);
+                }
+            }
+        }
+        if joined.is_empty() {
+            continue;
+        }
+        let mut kept: Vec<Solved> = solved
+            .into_iter()
+            .zip(gone)
+            .filter(|(_, g)| !g)
+            .map(|(s, _)| s)
+            .collect();
+        kept.extend(joined);
+        kept.sort_by_key(|s| s.chart.faces.first().copied());
+        solved = kept;
+    }
+    solved
+}
+
+/// Pairs of non-kept charts (indices into `solved`) that share mesh edges, most
+/// shared edges first (ties by index).
+fn merge_candidates(
+    mesh: &PolyMesh,
+    topology: &Topology,
+    solved: &[Solved],
+) -> Vec<(usize, usize)> {
+    let mut chart_of = vec![usize::MAX; mesh.face_count()];
+    for (i, s) in solved.iter().enumerate() {
+        if s.chart.origin != ChartOrigin::Kept {
+            for &f in &s.chart.faces {
+                if let Some(slot) = chart_of.get_mut(f as usize) {
+                    *slot = i;
+                }
+            }
+        }
+    }
+    let chart_at = |c: u32| {
+        topology
+            .corner_face
+            .get(c as usize)
+            .and_then(|&f| chart_of.get(f as usize).copied())
+            .unwrap_or(usize::MAX)
+    };
+    let mut shared: BTreeMap<(usize, usize), usize> = BTreeMap::new();
+    for e in 0..topology.edge_count() as u32 {
+        if let [h, k] = *topology.edge_halfedges(e) {
+            let (a, b) = (chart_at(h), chart_at(k));
+            if a != b && a != usize::MAX && b != usize::MAX {
+                *shared.entry((a.min(b), a.max(b))).or_default() += 1;
+            }
+        }
+    }
+    let mut pairs: Vec<((usize, usize), usize)> = shared.into_iter().collect();
+    pairs.sort_by(|x, y| y.1.cmp(&x.1).then(x.0.cmp(&y.0)));
+    pairs.into_iter().map(|(p, _)| p).collect()
 }
 
 fn chart_polygons(mesh: &PolyMesh, s: &Solved) -> ChartPolygons {

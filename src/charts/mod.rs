@@ -17,11 +17,13 @@
 //!   loops, closed pieces along a long shortest path, and (auto) holes are joined to
 //!   the outer boundary along shortest paths.
 //! - [`split_chart`] cuts a flattened chart in two when its stretch or a self-overlap
-//!   calls for it.
+//!   calls for it; [`merge_charts`] joins two neighbours into one disk, so the
+//!   pipeline can undo over-segmentation where the joined chart still flattens well.
 
 mod assemble;
 mod disk;
 mod keep;
+mod merge;
 mod paths;
 mod segment;
 mod union_find;
@@ -144,4 +146,12 @@ pub fn build(mesh: &PolyMesh, topology: &Topology, mode: SeamMode) -> Result<Vec
 /// element) when it has a single face and cannot be split.
 pub fn split_chart(mesh: &PolyMesh, chart: &Chart) -> Vec<Chart> {
     segment::split(mesh, chart)
+}
+
+/// Joins two charts with disjoint faces along every manifold, consistently wound mesh
+/// edge they share (`topology` is [`Topology::build`] of `mesh`); seams inside either
+/// chart stay cut. Returns `None` when they share no such edge or the union is not a
+/// disk (one component, genus 0, one boundary loop).
+pub fn merge_charts(mesh: &PolyMesh, topology: &Topology, a: &Chart, b: &Chart) -> Option<Chart> {
+    merge::merge(mesh, topology, a, b)
 }

@@ -6,7 +6,9 @@
 //! file). Blocking problems: no faces, faces with fewer than 3 corners, a vertex used
 //! twice, a reference beyond the vertices or UVs, zero area or non-finite corners,
 //! edges shared by more than two faces, non-manifold vertices, neighbours with opposite
-//! winding, and boundary loops that touch themselves. Not blocking: unused vertices.
+//! winding, and boundary loops that touch themselves; the last four are marked
+//! [`Problem::cut_by_seams`], because flattening cuts a seam through them instead of
+//! failing. Not blocking: unused vertices.
 
 use super::{PolyMesh, Topology};
 use crate::operators::face::area_normal;
@@ -18,6 +20,11 @@ pub struct Problem {
     pub blocking: bool,
     /// One sentence naming the faces or vertices concerned.
     pub sentence: String,
+    /// A blocking topology problem (non-manifold edge or vertex, inconsistent
+    /// winding, a boundary touching itself) that flattening works around by cutting
+    /// a seam there: it stops `inspect`'s clean bill of health, not `flatten`.
+    #[serde(skip)]
+    pub cut_by_seams: bool,
 }
 
 impl Problem {
@@ -26,6 +33,15 @@ impl Problem {
         Problem {
             blocking: true,
             sentence: sentence.into(),
+            cut_by_seams: false,
+        }
+    }
+
+    /// A blocking topology problem that flattening cuts a seam through.
+    pub fn cuttable(sentence: impl Into<String>) -> Self {
+        Problem {
+            cut_by_seams: true,
+            ..Problem::blocking(sentence)
         }
     }
 
@@ -34,6 +50,7 @@ impl Problem {
         Problem {
             blocking: false,
             sentence: sentence.into(),
+            cut_by_seams: false,
         }
     }
 }
@@ -103,7 +120,7 @@ pub fn validate(mesh: &PolyMesh, topo: &Topology) -> Vec<Problem> {
                 faces.len()
             )
         };
-        problems.push(Problem::blocking(format!(
+        problems.push(Problem::cuttable(format!(
             "{head}: {}; an edge may border at most two faces",
             listing(&faces, faces.len())
         )));
@@ -124,12 +141,12 @@ pub fn validate(mesh: &PolyMesh, topo: &Topology) -> Vec<Problem> {
                 listing(&names, nv.len())
             )
         };
-        problems.push(Problem::blocking(sentence));
+        problems.push(Problem::cuttable(sentence));
     }
 
     let inc = &topo.inconsistent_edges;
     if let Some(&e) = inc.first() {
-        problems.push(Problem::blocking(format!(
+        problems.push(Problem::cuttable(format!(
             "{} the same direction, the first being {} ({}); flip faces so that neighbours wind the same way",
             if inc.len() == 1 {
                 "1 edge is traversed by both of its faces in".to_string()
@@ -151,7 +168,7 @@ pub fn validate(mesh: &PolyMesh, topo: &Topology) -> Vec<Problem> {
             .take(LISTED)
             .map(|&(_, v)| vertex(v))
             .collect();
-        problems.push(Problem::blocking(format!(
+        problems.push(Problem::cuttable(format!(
             "{} the mesh touches itself at {}; split the vertex so each boundary passes it once",
             if pinched.len() == 1 {
                 "1 boundary loop of".to_string()

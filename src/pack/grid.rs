@@ -101,13 +101,20 @@ impl Grid {
         best.max(run)
     }
 
-    /// First position `(x, y)` (lowest `y`, then lowest `x`) where `mask` fits with
-    /// its cells inside `[margin, size − margin)` on both axes and on free cells.
-    /// `widest` lists `(row, width of its longest interval)` of `mask`, widest first
-    /// ([`Mask::widest_runs`]); rows are rejected against it before any bit is read.
-    pub fn find(&self, mask: &Mask, widest: &[(usize, i32)], margin: i32) -> Option<(i32, i32)> {
+    /// First position `(x, y)` (lowest `y`, then lowest `x`) with `y ≤ y_limit` where
+    /// `mask` fits with its cells inside `[margin, size − margin)` on both axes and on
+    /// free cells. `widest` lists `(row, width of its longest interval)` of `mask`,
+    /// widest first ([`Mask::widest_runs`]); rows are rejected against it before any
+    /// bit is read.
+    pub fn find(
+        &self,
+        mask: &Mask,
+        widest: &[(usize, i32)],
+        margin: i32,
+        y_limit: i32,
+    ) -> Option<(i32, i32)> {
         let x_max = self.size - margin - mask.width;
-        let y_max = self.size - margin - mask.height;
+        let y_max = (self.size - margin - mask.height).min(y_limit);
         let h = mask.rows.len();
         // Mask row that collided last: collisions cluster, so it is tested first.
         let mut hint = 0;
@@ -183,25 +190,28 @@ mod tests {
         let widest = m.widest_runs();
         let mut got = Vec::new();
         for _ in 0..3 {
-            let (x, y) = g.find(&m, &widest, 0).unwrap();
+            let (x, y) = g.find(&m, &widest, 0, i32::MAX).unwrap();
             g.occupy(&m, x, y);
             got.push((x, y));
         }
         assert_eq!(got, vec![(0, 0), (40, 0), (0, 40)]);
         // The fourth fills the 2 × 2 arrangement; a fifth would need 120 > 100 cells.
-        assert_eq!(g.find(&m, &widest, 0), Some((40, 40)));
+        assert_eq!(g.find(&m, &widest, 0, i32::MAX), Some((40, 40)));
         g.occupy(&m, 40, 40);
-        assert_eq!(g.find(&m, &widest, 0), None);
+        assert_eq!(g.find(&m, &widest, 0, i32::MAX), None);
         // A 20-cell-wide strip remains on the right and top.
         let strip = block(20, 100);
-        assert_eq!(g.find(&strip, &strip.widest_runs(), 0), Some((80, 0)));
+        assert_eq!(
+            g.find(&strip, &strip.widest_runs(), 0, i32::MAX),
+            Some((80, 0))
+        );
     }
 
     #[test]
     fn margin_keeps_cells_off_the_border() {
         let g = Grid::new(70);
         let m = block(64, 64);
-        assert_eq!(g.find(&m, &m.widest_runs(), 3), Some((3, 3)));
-        assert_eq!(g.find(&m, &m.widest_runs(), 4), None);
+        assert_eq!(g.find(&m, &m.widest_runs(), 3, i32::MAX), Some((3, 3)));
+        assert_eq!(g.find(&m, &m.widest_runs(), 4, i32::MAX), None);
     }
 }

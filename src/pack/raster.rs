@@ -37,16 +37,26 @@ impl Mask {
         runs
     }
 
-    /// The mask grown by `r` cells in every direction with a square structuring
-    /// element (every cell within Chebyshev distance `r` of an occupied cell). The
-    /// result is `2r` cells wider and taller; its cell `(x, y)` is this mask's
-    /// `(x − r, y − r)`.
+    /// The mask grown by `r` cells: every cell whose closed square comes nearer than
+    /// `r` cells (Euclidean) to an occupied cell's square. Two cells `(dx, dy)` apart
+    /// are `√(max(|dx|−1, 0)² + max(|dy|−1, 0)²)` apart, so the structuring element is
+    /// a rounded square: along the axes it reaches `r` cells as a square would, but
+    /// its corners are cut, which keeps slanted chart outlines from paying up to
+    /// `√2 · r` of padding. The result is `2r` cells wider and taller; its cell
+    /// `(x, y)` is this mask's `(x − r, y − r)`.
     pub fn dilate(&self, r: i32) -> Mask {
         let height = self.height + 2 * r;
+        let reach: Vec<i32> = (0..=r.max(0)).map(|dy| half_width(r, dy)).collect();
         let mut rows: Vec<Vec<(i32, i32)>> = vec![Vec::new(); height.max(0) as usize];
         for (y, row) in self.rows.iter().enumerate() {
-            for out in rows.iter_mut().skip(y).take((2 * r + 1) as usize) {
-                out.extend(row.iter().map(|&(a, b)| (a, b + 2 * r)));
+            for (k, out) in rows
+                .iter_mut()
+                .skip(y)
+                .take((2 * r + 1) as usize)
+                .enumerate()
+            {
+                let w = reach[(k as i32 - r).unsigned_abs() as usize];
+                out.extend(row.iter().map(|&(a, b)| (a + r - w, b + r + w)));
             }
         }
         for row in rows.iter_mut() {
@@ -58,6 +68,17 @@ impl Mask {
             rows,
         }
     }
+}
+
+/// Largest `dx ≤ r` with `max(dx−1, 0)² + max(dy−1, 0)² < r²` (see [`Mask::dilate`]);
+/// `dy ≤ r`, so `dx = 0` always qualifies.
+fn half_width(r: i32, dy: i32) -> i32 {
+    let gap = |d: i32| i64::from((d - 1).max(0));
+    let r2 = i64::from(r) * i64::from(r);
+    (0..=r)
+        .rev()
+        .find(|&dx| gap(dx) * gap(dx) + gap(dy) * gap(dy) < r2)
+        .unwrap_or(0)
 }
 
 /// Sorts intervals and merges overlapping or adjacent ones.
@@ -73,19 +94,23 @@ fn merge(row: &mut Vec<(i32, i32)>) {
     *row = out;
 }
 
-/// Conservative raster of polygons given in cell coordinates.
+/// Conservative raster of regions bounded by directed segments, in cell coordinates.
 ///
-/// `polygons`: each polygon's corners in order (any orientation, may be non-convex or
-/// degenerate), in cell units, all with coordinates in `[EPS, width − EPS]` ×
-/// `[EPS, height − EPS]` up to rounding (cells outside the grid are clipped).
-/// Returns a `width × height` mask marking every cell whose closed square lies within
-/// [`EPS`] of some polygon.
-pub fn rasterize<'a>(
-    polygons: impl Iterator<Item = &'a [Point2<f64>]>,
+/// Each item of `regions` is one region: segments (in any order) whose non-zero
+/// winding number defines its interior, e.g. a polygon's edges, or the boundary edges
+/// of a fold-free chart (holes wind the other way and stay empty). Marks every cell
+/// whose closed square lies within [`EPS`] of a segment, and every cell whose centre
+/// has non-zero winding number; coordinates in cell units within `[EPS, width − EPS]` × `[EPS, height − EPS]` up
+/// to rounding (cells outside the grid are clipped).
+pub fn rasterize_regions<'a>(
+    regions: impl Iterator<Item = &'a [[Point2<f64>; 2]]>,
     width: i32,
     height: i32,
 ) -> Mask {
-    let mut rows: Vec<Vec<(i32, i32)>> = vec![Vec::new(); height.max(0) as usize];
+    // One byte per cell: marking a run is a fill, and the intervals are read off once
+    // at the end (cheaper than collecting and sorting a run per face and row).
+    let w = width.max(0) as usize;
+    let mut cells = vec![false; w * height.max(0) as usize];
     let mut mark = |y: i64, x0: i64, x1: i64| {
         if y < 0 || y >= i64::from(height) {
             return;
@@ -93,19 +118,16 @@ pub fn rasterize<'a>(
         let a = x0.max(0);
         let b = x1.min(i64::from(width) - 1);
         if a <= b {
-            rows[y as usize].push((a as i32, b as i32));
+            let row = y as usize * w;
+            cells[row + a as usize..=row + b as usize].fill(true);
         }
     };
-    let mut crossings: Vec<(f64, i32)> = Vec::new();
-    for poly in polygons {
-        let n = poly.len();
-        if n == 0 {
-            continue;
-        }
-        // Edges: every cell a segment (widened by EPS) crosses, row by row.
-        for i in 0..n {
-            let a = poly[i];
-            let b = poly[(i + 1) % n];
+    // (row, x, direction) of every crossing of a row's centre line by a segment.
+    let mut crossings: Vec<(i64, f64, i32)> = Vec::new();
+    for segments in regions {
+        crossings.clear();
+        for &[a, b] in segments {
+            // Edges: every cell the segment (widened by EPS) crosses, row by row.
             let (ylo, yhi) = (a.y.min(b.y), a.y.max(b.y));
             let first = (ylo - EPS).floor() as i64;
             let last = (yhi + EPS).floor() as i64;
@@ -122,41 +144,44 @@ pub fn rasterize<'a>(
                 };
                 mark(y, (x0 - EPS).floor() as i64, (x1 + EPS).floor() as i64);
             }
-        }
-        // Interior: cells whose centre has non-zero winding number.
-        let (ylo, yhi) = poly
-            .iter()
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
-                (lo.min(p.y), hi.max(p.y))
-            });
-        let first = (ylo - 0.5).ceil().max(0.0) as i64;
-        let last = ((yhi - 0.5).floor() as i64).min(i64::from(height) - 1);
-        for y in first..=last {
-            let yc = y as f64 + 0.5;
-            crossings.clear();
-            for i in 0..n {
-                let a = poly[i];
-                let b = poly[(i + 1) % n];
+            // Interior: where the segment crosses a row's centre line.
+            let top = (yhi - 0.5).ceil() as i64;
+            for y in ((ylo - 0.5).floor() as i64).max(0)..=top.min(i64::from(height) - 1) {
+                let yc = y as f64 + 0.5;
                 if (a.y <= yc) != (b.y <= yc) {
                     let x = a.x + (yc - a.y) * (b.x - a.x) / (b.y - a.y);
-                    crossings.push((x, if b.y > a.y { 1 } else { -1 }));
-                }
-            }
-            crossings.sort_by(|p, q| p.0.total_cmp(&q.0));
-            let mut winding = 0;
-            for w in crossings.windows(2) {
-                winding += w[0].1;
-                if winding != 0 {
-                    let x0 = (w[0].0 - 0.5).ceil() as i64;
-                    let x1 = (w[1].0 - 0.5).floor() as i64;
-                    mark(y, x0, x1);
+                    crossings.push((y, x, if b.y > a.y { 1 } else { -1 }));
                 }
             }
         }
+        crossings.sort_by(|p, q| p.0.cmp(&q.0).then(p.1.total_cmp(&q.1)));
+        let mut winding = 0;
+        for pair in crossings.windows(2) {
+            let ((y0, x0, d0), (y1, x1, _)) = (pair[0], pair[1]);
+            winding = if y0 == y1 { winding + d0 } else { 0 };
+            if y0 == y1 && winding != 0 {
+                mark(y0, (x0 - 0.5).ceil() as i64, (x1 - 0.5).floor() as i64);
+            }
+        }
     }
-    for row in rows.iter_mut() {
-        merge(row);
-    }
+    let mut rows: Vec<Vec<(i32, i32)>> = cells
+        .chunks(w.max(1))
+        .take(height.max(0) as usize)
+        .map(|row| {
+            let mut runs = Vec::new();
+            let mut x = 0;
+            while let Some(start) = row[x..].iter().position(|&c| c).map(|k| k + x) {
+                let end = row[start..]
+                    .iter()
+                    .position(|&c| !c)
+                    .map_or(w, |k| k + start);
+                runs.push((start as i32, end as i32 - 1));
+                x = end;
+            }
+            runs
+        })
+        .collect();
+    rows.resize(height.max(0) as usize, Vec::new());
     Mask {
         width,
         height,
@@ -167,6 +192,21 @@ pub fn rasterize<'a>(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Polygons (corners in order) rasterised as regions of their own edges.
+    fn rasterize<'a>(
+        polygons: impl Iterator<Item = &'a [Point2<f64>]>,
+        width: i32,
+        height: i32,
+    ) -> Mask {
+        let groups: Vec<Vec<[Point2<f64>; 2]>> = polygons
+            .map(|poly| {
+                let n = poly.len();
+                (0..n).map(|i| [poly[i], poly[(i + 1) % n]]).collect()
+            })
+            .collect();
+        rasterize_regions(groups.iter().map(|g| g.as_slice()), width, height)
+    }
 
     fn cells(m: &Mask) -> usize {
         m.rows
@@ -225,5 +265,31 @@ mod tests {
         let d = m.dilate(1);
         assert_eq!((d.width, d.height), (3, 3));
         assert_eq!(d.rows, vec![vec![(0, 2)]; 3]);
+    }
+
+    #[test]
+    fn rounded_dilation_keeps_every_cell_nearer_than_r_and_no_other() {
+        // Brute force over offsets: a cell (dx, dy) from the source cell must be
+        // covered exactly when its square is nearer than r to the source square.
+        let m = Mask {
+            width: 1,
+            height: 1,
+            rows: vec![vec![(0, 0)]],
+        };
+        for r in 0..7 {
+            let d = m.dilate(r);
+            for y in 0..d.height {
+                for x in 0..d.width {
+                    let (dx, dy) = (f64::from((x - r).abs()), f64::from((y - r).abs()));
+                    let near = (dx - 1.0).max(0.0).hypot((dy - 1.0).max(0.0)) < f64::from(r);
+                    let covered = d.rows[y as usize].iter().any(|&(a, b)| a <= x && x <= b);
+                    assert_eq!(
+                        covered,
+                        near || (dx == 0.0 && dy == 0.0),
+                        "r {r}, cell ({x}, {y})"
+                    );
+                }
+            }
+        }
     }
 }

@@ -59,6 +59,11 @@ pub struct Input {
     pub arity_histogram: BTreeMap<String, usize>,
     /// Whether the input carried texture coordinates on every face.
     pub had_uvs: bool,
+    /// Topology problems of the input that the run cut seams through (non-manifold
+    /// edges or vertices, inconsistent winding, boundaries touching themselves), one
+    /// sentence each; empty for a clean mesh.
+    #[serde(default)]
+    pub notes: Vec<String>,
 }
 
 /// Axis-aligned bounds of a chart in the final layout.

@@ -31,7 +31,7 @@ impl JobRunner for PipelineRunner {
         settings.validate().map_err(Error::Settings)?;
         pipeline::check_solver(settings)?;
         let obj = io::parse_obj(text, UPLOAD)?;
-        pipeline::check_mesh(&obj.mesh, &Topology::build(&obj.mesh), UPLOAD)
+        pipeline::check_mesh(&obj.mesh, &Topology::build(&obj.mesh), UPLOAD).map(drop)
     }
 
     fn stage_count(&self) -> u32 {
