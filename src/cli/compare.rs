@@ -125,7 +125,7 @@ fn execute(args: &CompareArgs, settings: &crate::Settings) -> Result<()> {
         for r in &rows {
             let m = &r.global.metrics;
             eprintln!(
-                "{:>20}: {} iterations, {:.1} ms, stretch L2 {:.4}, angle mean {:.4}, flipped {}",
+                "{:>20}: {} iterations, {:.1} ms, stretch L2 {:.5}, angle mean {:.4}, flipped {}",
                 r.global.energy,
                 r.global.iterations,
                 r.time_ms,

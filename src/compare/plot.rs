@@ -7,7 +7,8 @@
 //! is drawn as its *relative excess* `(E_k − E_n) / (E_0 − E_n)`: 1 at the start, 0
 //! once converged, on a log axis. The final point is exactly 0 and cannot sit on a
 //! log axis, so values below the axis floor are drawn on the floor, whose tick reads
-//! `≤1e-N`. The legend gives each energy's iteration count and `E_0 → E_n`.
+//! `≤1e-N`. The x axis runs to the slowest chart's iteration count; the legend
+//! gives each energy's `E_0 → E_n`.
 //!
 //! Image: [`WIDTH`]×[`height`] pixels (the plot, then one legend row per energy
 //! below the axis so no line hides behind it), the atlas legend's dark panel colours, lines
@@ -156,7 +157,7 @@ pub fn render(series: &[Series]) -> Result<RgbaImage> {
         let w = font::text_width(&label, K) as f32;
         font::draw(&mut pm, &label, x - w / 2.0, BOTTOM + 12.0, K, text);
     }
-    let xl = "iteration";
+    let xl = "iteration (sum over charts, a stopped chart keeps its last energy)";
     let w = font::text_width(xl, K) as f32;
     font::draw(
         &mut pm,
@@ -193,8 +194,8 @@ pub fn render(series: &[Series]) -> Result<RgbaImage> {
     Ok(to_image(&pm))
 }
 
-/// Legend rows below the plot: a line swatch per series, its label, iteration
-/// count and first → last energy.
+/// Legend rows below the plot: a line swatch per series, its label and first →
+/// last energy.
 fn draw_legend(pm: &mut Pixmap, series: &[Series], text: [u8; 3]) {
     for (i, s) in series.iter().enumerate() {
         let (first, last) = (
@@ -202,9 +203,8 @@ fn draw_legend(pm: &mut Pixmap, series: &[Series], text: [u8; 3]) {
             s.history.last().copied().unwrap_or(0.0),
         );
         let row = format!(
-            "{}: {} iterations, energy {} -> {}",
+            "{}: energy {} -> {}",
             s.label,
-            s.history.len().saturating_sub(1),
             significant(first),
             significant(last)
         );
