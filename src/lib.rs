@@ -15,6 +15,7 @@ pub mod atlas;
 pub mod batch;
 pub mod charts;
 pub mod cli;
+pub mod compare;
 pub mod error;
 pub mod flatten;
 pub mod io;

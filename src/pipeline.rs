@@ -1,8 +1,11 @@
 //! The one library entry point: mesh in, packed UV layout, metrics and report out.
-//! The command line, `batch` and `serve` all call [`flatten`] (or [`run_job`]).
+//! The command line, `batch` and `serve` all call [`flatten`] (or [`run_job`]);
+//! `compare` calls [`flatten_with_charts`] to flatten the same charts with several
+//! energies.
 //!
 //! Stages (each timed in the report): validate → charts → solve (per chart, in
-//! parallel) → re-split over-stretched automatic charts → pack → metrics.
+//! parallel) → re-split over-stretched automatic charts → pack → metrics. With
+//! charts given in advance the charts and re-split stages are skipped.
 
 use nalgebra::Point2;
 use rayon::prelude::*;
@@ -47,6 +50,9 @@ pub struct Outcome {
     pub face_chart: Vec<u32>,
     /// Per-face metrics of the packed layout.
     pub face_metrics: Vec<FaceMetrics>,
+    /// The charts flattened, in chart-id order (after any re-split): hand them to
+    /// [`flatten_with_charts`] to flatten the same charts again.
+    pub charts: Vec<Chart>,
     /// The report.
     pub report: Report,
 }
@@ -97,14 +103,38 @@ pub fn flatten(
     settings: &Settings,
     progress: &dyn Progress,
 ) -> Result<Outcome> {
+    in_pool(settings, || {
+        flatten_inner(mesh, input_name, settings, None, progress)
+    })
+}
+
+/// Flattens `mesh` over exactly `charts` (typically [`Outcome::charts`] of an
+/// earlier run on the same mesh): the charts are neither rebuilt nor re-split, so
+/// runs with different energies share every seam. `settings.seams` only names the
+/// mode in the report. Errors when the charts do not partition the mesh's faces.
+pub fn flatten_with_charts(
+    mesh: &PolyMesh,
+    input_name: &str,
+    settings: &Settings,
+    charts: &[Chart],
+    progress: &dyn Progress,
+) -> Result<Outcome> {
+    in_pool(settings, || {
+        flatten_inner(mesh, input_name, settings, Some(charts), progress)
+    })
+}
+
+/// Runs `job` on `--threads` worker threads (all cores when unset), after checking
+/// the settings.
+fn in_pool(settings: &Settings, job: impl FnOnce() -> Result<Outcome> + Send) -> Result<Outcome> {
     settings.validate().map_err(Error::Settings)?;
     match settings.threads {
         Some(n) => rayon::ThreadPoolBuilder::new()
             .num_threads(n)
             .build()
             .map_err(|e| Error::Settings(format!("--threads {n}: {e}")))?
-            .install(|| flatten_inner(mesh, input_name, settings, progress)),
-        None => flatten_inner(mesh, input_name, settings, progress),
+            .install(job),
+        None => job(),
     }
 }
 
@@ -112,6 +142,7 @@ fn flatten_inner(
     mesh: &PolyMesh,
     input_name: &str,
     settings: &Settings,
+    fixed_charts: Option<&[Chart]>,
     progress: &dyn Progress,
 ) -> Result<Outcome> {
     let mut timings = BTreeMap::new();
@@ -127,8 +158,17 @@ fn flatten_inner(
     lap("validate", &mut timings);
 
     let mode = seam_mode(mesh, settings);
-    let charts = charts::build(mesh, &topology, mode).map_err(|e| in_file(e, input_name))?;
-    lap("charts", &mut timings);
+    let charts = match fixed_charts {
+        Some(given) => {
+            check_charts(mesh, given, input_name)?;
+            given.to_vec()
+        }
+        None => {
+            let built = charts::build(mesh, &topology, mode).map_err(|e| in_file(e, input_name))?;
+            lap("charts", &mut timings);
+            built
+        }
+    };
 
     let options = SolveOptions::from_settings(settings, 0);
     progress.begin("flattening charts", charts.len() as u64);
@@ -136,7 +176,7 @@ fn flatten_inner(
     progress.end();
     lap("solve", &mut timings);
 
-    if mode == SeamMode::Auto {
+    if mode == SeamMode::Auto && fixed_charts.is_none() {
         solved = split_over_stretched(mesh, solved, settings, &options, progress)?;
         lap("resplit", &mut timings);
         solved = merge_neighbours(mesh, &topology, solved, settings, &options, progress);
@@ -216,8 +256,64 @@ fn flatten_inner(
         corner_uvs,
         face_chart,
         face_metrics,
+        charts: solved.into_iter().map(|s| s.chart).collect(),
         report,
     })
+}
+
+/// Checks that `charts` fit `mesh`: face and vertex indices in range, no face in
+/// two charts, each chart's corners matching its faces' arities. (That every face
+/// is in a chart is checked after solving, as for built charts.)
+fn check_charts(mesh: &PolyMesh, charts: &[Chart], file: &str) -> Result<()> {
+    let bad = |id: usize, what: String| Error::Mesh {
+        file: file.to_string(),
+        message: format!("chart {id} given to flatten does not fit the mesh: {what}"),
+    };
+    let mut seen = vec![false; mesh.face_count()];
+    for (id, chart) in charts.iter().enumerate() {
+        for &f in &chart.faces {
+            match seen.get_mut(f as usize) {
+                None => {
+                    return Err(bad(
+                        id,
+                        format!("face {} is out of range", u64::from(f) + 1),
+                    ))
+                }
+                Some(true) => {
+                    return Err(bad(
+                        id,
+                        format!("face {} is in two charts", u64::from(f) + 1),
+                    ))
+                }
+                Some(s) => *s = true,
+            }
+        }
+        let corners: usize = chart.faces.iter().map(|&f| mesh.arity(f as usize)).sum();
+        if corners != chart.corners.len() {
+            return Err(bad(
+                id,
+                format!("{} corners listed for {corners}", chart.corners.len()),
+            ));
+        }
+        if let Some(&v) = chart
+            .corners
+            .iter()
+            .find(|&&v| v as usize >= chart.vertices.len())
+        {
+            return Err(bad(id, format!("corner vertex {v} is out of range")));
+        }
+        if let Some(&v) = chart
+            .vertices
+            .iter()
+            .find(|&&v| v as usize >= mesh.positions.len())
+        {
+            return Err(bad(
+                id,
+                format!("mesh vertex {} is out of range", u64::from(v) + 1),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Names the input file in errors that do not already.
@@ -566,6 +662,16 @@ pub fn atlas_png(
     metric: AtlasMetric,
     resolution: u32,
 ) -> Result<Vec<u8>> {
+    atlas::png_bytes(&atlas_image(obj, outcome, metric, resolution)?)
+}
+
+/// Renders the distortion atlas of `outcome` (see [`atlas::render_atlas`]).
+pub fn atlas_image(
+    obj: &ObjFile,
+    outcome: &Outcome,
+    metric: AtlasMetric,
+    resolution: u32,
+) -> Result<image::RgbaImage> {
     let s = metrics::global_scale(&outcome.face_metrics, None);
     let values: Vec<f64> = outcome
         .face_metrics
@@ -578,7 +684,7 @@ pub fn atlas_png(
         })
         .collect();
     let flipped: Vec<bool> = outcome.face_metrics.iter().map(|m| m.flipped).collect();
-    let image = atlas::render_atlas(
+    atlas::render_atlas(
         &AtlasInput {
             mesh: &obj.mesh,
             uvs: &outcome.uvs,
@@ -589,8 +695,7 @@ pub fn atlas_png(
             face_chart: &outcome.face_chart,
         },
         resolution,
-    )?;
-    atlas::png_bytes(&image)
+    )
 }
 
 /// Whether a solver choice makes sense for an energy (local–global is ARAP's).

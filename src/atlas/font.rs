@@ -1,4 +1,5 @@
-//! A built-in 5×7 bitmap font (plus a descender row) (plus a descender row) for legends and view labels.
+//! A built-in 5×7 bitmap font (plus a descender row) for legends, view labels and
+//! chart titles.
 //!
 //! Our own glyph table rather than a font crate: the images need about 90 characters
 //! (digits, Latin letters, a few signs, plus `σ`, `≤`, `≥` and `×`), which fit in this
@@ -137,4 +138,18 @@ pub fn layout(text: &str, x: i64, y: i64, scale: u32, mut ink: impl FnMut(i64, i
             }
         }
     }
+}
+
+/// Draws `text` into `pm` with its top-left corner at (`x`, `y`) in `rgb`, each font
+/// pixel a `scale`×`scale` square (see [`layout`]); parts outside the image are cut.
+pub fn draw(pm: &mut tiny_skia::Pixmap, text: &str, x: f32, y: f32, scale: u32, rgb: [u8; 3]) {
+    let mut paint = tiny_skia::Paint::default();
+    paint.set_color_rgba8(rgb[0], rgb[1], rgb[2], 255);
+    paint.anti_alias = false;
+    layout(text, x as i64, y as i64, scale, |x, y, size| {
+        let size = size as f32;
+        if let Some(rect) = tiny_skia::Rect::from_xywh(x as f32, y as f32, size, size) {
+            pm.fill_rect(rect, &paint, tiny_skia::Transform::identity(), None);
+        }
+    });
 }

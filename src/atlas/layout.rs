@@ -123,7 +123,9 @@ fn fill(pm: &mut Pixmap, path: &Path, rgb: [u8; 3], anti_alias: bool) {
     pm.fill_path(path, &paint, FillRule::Winding, Transform::identity(), None);
 }
 
-pub(super) fn stroke(pm: &mut Pixmap, path: &Path, rgb: [u8; 3], alpha: u8, width: f32) {
+/// Strokes `path` anti-aliased in `rgb` at opacity `alpha`, `width` pixels wide,
+/// with round joins.
+pub(crate) fn stroke(pm: &mut Pixmap, path: &Path, rgb: [u8; 3], alpha: u8, width: f32) {
     let mut paint = Paint::default();
     paint.set_color_rgba8(rgb[0], rgb[1], rgb[2], alpha);
     paint.anti_alias = true;

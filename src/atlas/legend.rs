@@ -22,10 +22,7 @@ pub fn legend_height(resolution: u32) -> u32 {
 }
 
 fn text(pm: &mut Pixmap, s: &str, x: f32, y: f32, k: u32) {
-    font::layout(s, x as i64, y as i64, k, |x, y, size| {
-        let size = size as f32;
-        fill_rect(pm, x as f32, y as f32, size, size, color::legend_text());
-    });
+    font::draw(pm, s, x, y, k, color::legend_text());
 }
 
 /// Draws the legend for `scale` below the layout square, with the number of

@@ -20,6 +20,7 @@ mod png;
 
 pub(crate) use check::check_faces;
 pub use color::{ColorScale, Oklab, ScaleKind};
+pub(crate) use layout::stroke;
 pub use legend::legend_height;
 pub use png::{png_bytes, write_png};
 
@@ -86,7 +87,7 @@ pub fn render_atlas(input: &AtlasInput, resolution: u32) -> Result<RgbaImage> {
 }
 
 /// Converts a (premultiplied) pixmap into a straight-alpha RGBA image.
-fn to_image(pixmap: &Pixmap) -> RgbaImage {
+pub fn to_image(pixmap: &Pixmap) -> RgbaImage {
     let mut img = RgbaImage::new(pixmap.width(), pixmap.height());
     for (dst, src) in img.pixels_mut().zip(pixmap.pixels()) {
         let c = src.demultiply();

@@ -9,6 +9,13 @@ use std::path::PathBuf;
 
 /// Flattens many meshes into one folder, skipping those already done.
 #[derive(Debug, Args)]
+#[command(after_help = "Examples:\n  \
+    polyflat batch assets/ --out-dir flattened\n  \
+    polyflat batch crate.obj barrel.obj --out-dir flattened --jobs 2 --energy arap --resolution 2048\n  \
+    polyflat batch props.toml --out-dir flattened --force\n\n\
+A TOML manifest lists [[asset]] entries: path = \"meshes/crate.obj\" plus any flatten option\n\
+spelled as on the command line (energy = \"arap\", max-iterations = 50). Assets whose input,\n\
+settings and polyflat version are unchanged since the last run are skipped.")]
 pub struct BatchArgs {
     /// OBJ files, folders (searched recursively for *.obj) and TOML manifests.
     #[arg(required = true, value_name = "INPUT")]

@@ -98,7 +98,7 @@ pub fn run(args: &FlattenArgs) -> Result<()> {
 }
 
 /// Errors when `out` names the input file.
-fn refuse_input(out: &Path, input: &Path) -> Result<()> {
+pub(crate) fn refuse_input(out: &Path, input: &Path) -> Result<()> {
     let same = match (out.canonicalize(), input.canonicalize()) {
         (Ok(a), Ok(b)) => a == b,
         _ => out == input,
@@ -122,7 +122,13 @@ pub fn write_all(files: &[(PathBuf, Vec<u8>)]) -> Result<()> {
             Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
             _ => PathBuf::from("."),
         };
-        let mut tmp = tempfile::NamedTempFile::new_in(&dir)
+        let mut builder = tempfile::Builder::new();
+        // The written file gets the permissions of any new file (0o666 less the
+        // umask), not the owner-only default of temporary files.
+        #[cfg(unix)]
+        builder.permissions(std::os::unix::fs::PermissionsExt::from_mode(0o666));
+        let mut tmp = builder
+            .tempfile_in(&dir)
             .map_err(|e| Error::io(path, "create a temporary file beside", e))?;
         tmp.write_all(bytes)
             .and_then(|_| tmp.as_file().sync_all())

@@ -12,6 +12,11 @@ use std::path::PathBuf;
 
 /// Arguments of `polyflat inspect`.
 #[derive(Debug, Args)]
+#[command(after_help = "Examples:\n  \
+    polyflat inspect chair.obj\n  \
+    polyflat inspect scan.obj --json > scan_inspect.json\n\n\
+Exit status 0 when nothing blocks flattening, 1 when a problem does (each problem is\n\
+listed as one sentence naming the face or vertex and its line).")]
 pub struct InspectArgs {
     /// The OBJ mesh to inspect.
     pub mesh: PathBuf,

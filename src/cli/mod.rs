@@ -2,6 +2,7 @@
 //! and a `run` function. Exit codes: 0 success, 1 failed job, 2 bad usage.
 
 pub mod batch;
+pub mod compare;
 pub mod flatten;
 pub mod inspect;
 pub mod options;
@@ -30,6 +31,8 @@ pub enum Command {
     Inspect(inspect::InspectArgs),
     /// Flatten one mesh into a packed UV layout (OBJ), with optional report, atlas and preview.
     Flatten(flatten::FlattenArgs),
+    /// Flatten one mesh with several energies over the same charts and compare them.
+    Compare(compare::CompareArgs),
     /// Flatten many meshes into one folder, skipping those already up to date.
     Batch(batch::BatchArgs),
     /// Run the flattening HTTP service with durable jobs.
@@ -49,6 +52,10 @@ pub fn run(cli: Cli) -> i32 {
                     1
                 }
             }
+        }
+        Command::Compare(mut args) => {
+            args.quiet = cli.quiet;
+            compare::run(&args)
         }
         Command::Batch(mut args) => {
             args.quiet = cli.quiet;

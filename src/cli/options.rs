@@ -49,7 +49,9 @@ pub struct FlattenOptions {
 }
 
 /// Parses one of the fixed names of a settings enum, listing them in `--help`.
-fn named<T>(names: impl Iterator<Item = &'static str>) -> impl TypedValueParser<Value = T>
+pub(crate) fn named<T>(
+    names: impl Iterator<Item = &'static str>,
+) -> impl TypedValueParser<Value = T>
 where
     T: FromStr<Err = String> + Clone + Send + Sync + 'static,
 {

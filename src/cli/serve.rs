@@ -9,7 +9,7 @@ use std::sync::Arc;
 use std::time::Duration;
 
 const EXAMPLE: &str = "\
-Example:
+Examples:
   polyflat serve --listen 127.0.0.1:7878 --data-dir ./polyflat-jobs --workers 2
   curl -s --data-binary @mesh.obj 'http://127.0.0.1:7878/v1/jobs?energy=arap'
   curl -s http://127.0.0.1:7878/v1/jobs/ID
