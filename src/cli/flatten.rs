@@ -98,7 +98,7 @@ pub fn run(args: &FlattenArgs) -> Result<()> {
 }
 
 /// Errors when `out` names the input file.
-fn refuse_input(out: &Path, input: &Path) -> Result<()> {
+pub(crate) fn refuse_input(out: &Path, input: &Path) -> Result<()> {
     let same = match (out.canonicalize(), input.canonicalize()) {
         (Ok(a), Ok(b)) => a == b,
         _ => out == input,

@@ -1,0 +1,202 @@
+//! Re-flattening one chart whose surface was edited (same topology).
+//!
+//! The chart keeps its previous texel density `s_c = sqrt(Σ|A_uv| / Σ A_3d)` (its
+//! previous UV area over its previous 3D area). Its previous UVs, divided by `s_c`
+//! (and reflected when they were mirrored, since the engine flattens unmirrored), are
+//! the warm start. Two ways, the first that works:
+//!
+//! 1. **Local**: the vertices that moved plus [`MARGIN_RINGS`] rings of faces around
+//!    them are free; every other vertex is held where it was (with `hold_boundary`,
+//!    the chart's boundary is held too, so its outline cannot change). The chosen
+//!    energy is minimised over the free vertices only
+//!    ([`crate::flatten::solve_chart_held`]); the held part keeps its previous UVs
+//!    exactly, so nothing outside the edited region drifts.
+//! 2. **Whole**: when nothing would be held (the whole chart moved) or the local
+//!    solve cannot start, the whole chart is flattened from the warm start
+//!    ([`crate::flatten::solve_chart`]) and put back by the best rotation and
+//!    translation onto its previous UVs at scale `s_c` ([`super::place::fit`]),
+//!    mirrored when it was.
+
+use nalgebra::Point2;
+
+use super::place::fit;
+use crate::charts::Chart;
+use crate::error::Result;
+use crate::flatten::{self, SolveOptions, Start};
+use crate::mesh::PolyMesh;
+use crate::metrics::signed_area;
+use crate::operators::face::vector_area;
+use crate::progress::Silent;
+
+/// Rings of faces around the moved vertices that may move with them.
+pub const MARGIN_RINGS: usize = 3;
+
+/// How a changed chart was re-flattened.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Method {
+    /// Only the edited region moved.
+    Local,
+    /// The whole chart was flattened again and fitted back.
+    Whole,
+}
+
+/// A re-flattened chart.
+#[derive(Debug, Clone)]
+pub struct Resolved {
+    /// Final UV of every chart vertex, in the previous layout's units.
+    pub uvs: Vec<Point2<f64>>,
+    /// Solver iterations.
+    pub iterations: usize,
+    /// The solver that ran.
+    pub solver: String,
+    /// Energy history of the solve.
+    pub history: Vec<f64>,
+    /// Which way it went.
+    pub method: Method,
+}
+
+/// The inputs that describe one chart of the edit.
+pub struct ChartEdit<'a> {
+    /// The edited mesh.
+    pub edited: &'a PolyMesh,
+    /// The previous mesh (same topology: same vertex and face numbering).
+    pub previous: &'a PolyMesh,
+    /// The chart (of the edited mesh).
+    pub chart: &'a Chart,
+    /// Previous UV of every chart vertex.
+    pub previous_uvs: &'a [Point2<f64>],
+    /// Per mesh vertex: whether the edit moved it.
+    pub moved: &'a [bool],
+    /// Scale to keep when the chart's own previous density is undefined.
+    pub fallback_scale: f64,
+}
+
+/// Re-flattens a changed chart (module notes).
+pub fn resolve(edit: &ChartEdit, opts: &SolveOptions, hold_boundary: bool) -> Result<Resolved> {
+    let chart = edit.chart;
+    let faces = chart.local_faces(edit.edited);
+    let scale = density(edit, &faces);
+    let mirror = chart.mirrored_in_input;
+    let sign = if mirror { -1.0 } else { 1.0 };
+    let start: Vec<Point2<f64>> = edit
+        .previous_uvs
+        .iter()
+        .map(|p| Point2::new(sign * p.x / scale, p.y / scale))
+        .collect();
+    let chart_mesh = chart.mesh(edit.edited);
+
+    let held = held_vertices(edit, &faces, hold_boundary);
+    if !held.is_empty() && held.len() < start.len() {
+        if let Ok(solution) = flatten::solve_chart_held(&chart_mesh, opts, &start, &held, &Silent) {
+            if solution.flipped_faces == 0 {
+                let mut uvs: Vec<Point2<f64>> = solution
+                    .uvs
+                    .iter()
+                    .map(|p| Point2::new(sign * p.x * scale, p.y * scale))
+                    .collect();
+                for &v in &held {
+                    uvs[v as usize] = edit.previous_uvs[v as usize];
+                }
+                return Ok(Resolved {
+                    uvs,
+                    iterations: solution.iterations,
+                    solver: solution.solver.to_string(),
+                    history: solution.history,
+                    method: Method::Local,
+                });
+            }
+        }
+    }
+    let solution = flatten::solve_chart(&chart_mesh, opts, Start::Given(&start), &Silent)?;
+    let placed = fit(&solution.uvs, edit.previous_uvs, scale, mirror);
+    Ok(Resolved {
+        uvs: solution.uvs.iter().map(|p| placed.apply(p)).collect(),
+        iterations: solution.iterations,
+        solver: solution.solver.to_string(),
+        history: solution.history,
+        method: Method::Whole,
+    })
+}
+
+/// The chart's previous texel density `sqrt(Σ|A_uv| / Σ A_3d)` over its faces, or
+/// the fallback when that is not a positive number.
+fn density(edit: &ChartEdit, faces: &[Vec<u32>]) -> f64 {
+    let (mut uv, mut area) = (0.0, 0.0);
+    for (k, face) in faces.iter().enumerate() {
+        let poly: Vec<Point2<f64>> = face
+            .iter()
+            .filter_map(|&v| edit.previous_uvs.get(v as usize).copied())
+            .collect();
+        uv += signed_area(&poly).abs();
+        let Some(&f) = edit.chart.faces.get(k) else {
+            continue;
+        };
+        if (f as usize) < edit.previous.face_count() {
+            area += vector_area(&edit.previous.face_corners(f as usize)).norm();
+        }
+    }
+    let s = (uv / area).sqrt();
+    if s.is_finite() && s > 0.0 {
+        s
+    } else {
+        edit.fallback_scale
+    }
+}
+
+/// Chart vertices held fixed: all but the moved ones and [`MARGIN_RINGS`] rings of
+/// faces around them; plus the chart's boundary when `hold_boundary`. Ascending.
+fn held_vertices(edit: &ChartEdit, faces: &[Vec<u32>], hold_boundary: bool) -> Vec<u32> {
+    let n = edit.chart.vertices.len();
+    let mut free: Vec<bool> = edit
+        .chart
+        .vertices
+        .iter()
+        .map(|&v| edit.moved.get(v as usize).copied().unwrap_or(false))
+        .collect();
+    for _ in 0..MARGIN_RINGS {
+        let touched: Vec<&Vec<u32>> = faces
+            .iter()
+            .filter(|f| f.iter().any(|&v| free[v as usize]))
+            .collect();
+        for face in touched {
+            for &v in face {
+                free[v as usize] = true;
+            }
+        }
+    }
+    if hold_boundary {
+        for v in boundary_vertices(faces, n) {
+            free[v as usize] = false;
+        }
+    }
+    (0..n as u32).filter(|&v| !free[v as usize]).collect()
+}
+
+/// Vertices on edges that only one face of the chart uses.
+fn boundary_vertices(faces: &[Vec<u32>], n: usize) -> Vec<u32> {
+    let mut edges: Vec<(u32, u32)> = faces
+        .iter()
+        .flat_map(|f| {
+            (0..f.len()).map(move |i| {
+                let (a, b) = (f[i], f[(i + 1) % f.len()]);
+                (a.min(b), a.max(b))
+            })
+        })
+        .collect();
+    edges.sort_unstable();
+    let mut on = vec![false; n];
+    let mut i = 0;
+    while i < edges.len() {
+        let mut j = i + 1;
+        while j < edges.len() && edges[j] == edges[i] {
+            j += 1;
+        }
+        if j - i == 1 {
+            let (a, b) = edges[i];
+            on[a as usize] = true;
+            on[b as usize] = true;
+        }
+        i = j;
+    }
+    (0..n as u32).filter(|&v| on[v as usize]).collect()
+}
