@@ -8,9 +8,10 @@
 //! 1. **Local**: the vertices that moved plus [`MARGIN_RINGS`] rings of faces around
 //!    them are free; every other vertex is held where it was (with `hold_boundary`,
 //!    the chart's boundary is held too, so its outline cannot change). The chosen
-//!    energy is minimised over the free vertices only
+//!    energy is minimised over the free vertices only, on the faces that touch them
 //!    ([`crate::flatten::solve_chart_held`]); the held part keeps its previous UVs
-//!    exactly, so nothing outside the edited region drifts.
+//!    exactly, so nothing outside the edited region drifts, and a fold elsewhere in
+//!    a hand-made previous layout does not stop the solve.
 //! 2. **Whole**: when nothing would be held (the whole chart moved) or the local
 //!    solve cannot start, the whole chart is flattened from the warm start
 //!    ([`crate::flatten::solve_chart`]) and put back by the best rotation and
@@ -87,24 +88,27 @@ pub fn resolve(edit: &ChartEdit, opts: &SolveOptions, hold_boundary: bool) -> Re
 
     let held = held_vertices(edit, &faces, hold_boundary);
     if !held.is_empty() && held.len() < start.len() {
-        if let Ok(solution) = flatten::solve_chart_held(&chart_mesh, opts, &start, &held, &Silent) {
-            if solution.flipped_faces == 0 {
-                let mut uvs: Vec<Point2<f64>> = solution
-                    .uvs
-                    .iter()
-                    .map(|p| Point2::new(sign * p.x * scale, p.y * scale))
-                    .collect();
-                for &v in &held {
-                    uvs[v as usize] = edit.previous_uvs[v as usize];
-                }
-                return Ok(Resolved {
-                    uvs,
-                    iterations: solution.iterations,
-                    solver: solution.solver.to_string(),
-                    history: solution.history,
-                    method: Method::Local,
-                });
-            }
+        if let Some(r) = solve_region(&chart_mesh, &faces, &start, &held, opts) {
+            let uvs = r
+                .uvs
+                .iter()
+                .zip(edit.previous_uvs)
+                .zip(&r.free)
+                .map(|((p, before), &free)| {
+                    if free {
+                        Point2::new(sign * p.x * scale, p.y * scale)
+                    } else {
+                        *before
+                    }
+                })
+                .collect();
+            return Ok(Resolved {
+                uvs,
+                iterations: r.iterations,
+                solver: r.solver,
+                history: r.history,
+                method: Method::Local,
+            });
         }
     }
     let solution = flatten::solve_chart(&chart_mesh, opts, Start::Given(&start), &Silent)?;
@@ -116,6 +120,68 @@ pub fn resolve(edit: &ChartEdit, opts: &SolveOptions, hold_boundary: bool) -> Re
         history: solution.history,
         method: Method::Whole,
     })
+}
+
+/// A local solve: UVs of every chart vertex (held ones unchanged) in the solve's
+/// frame, and which vertices were free.
+struct Region {
+    uvs: Vec<Point2<f64>>,
+    free: Vec<bool>,
+    iterations: usize,
+    solver: String,
+    history: Vec<f64>,
+}
+
+/// Minimises over the free vertices: first on the faces that touch a free vertex
+/// only (faces whose corners are all held add a constant to the energy, and one of
+/// them folded in the previous layout would stop a barrier energy from starting),
+/// then, if that region is not a valid chart (two separate pieces, say), on the
+/// whole chart. `None` when neither works or the result folds.
+fn solve_region(
+    chart_mesh: &PolyMesh,
+    faces: &[Vec<u32>],
+    start: &[Point2<f64>],
+    held: &[u32],
+    opts: &SolveOptions,
+) -> Option<Region> {
+    let mut free = vec![true; start.len()];
+    for &v in held {
+        free[v as usize] = false;
+    }
+    let touching: Vec<u32> = (0..faces.len() as u32)
+        .filter(|&f| faces[f as usize].iter().any(|&v| free[v as usize]))
+        .collect();
+    let (region, to_chart) = chart_mesh.submesh(&touching);
+    let attempts = [
+        (region, to_chart),
+        (chart_mesh.clone(), (0..start.len() as u32).collect()),
+    ];
+    for (mesh, to_chart) in attempts {
+        let local_start: Vec<Point2<f64>> = to_chart.iter().map(|&v| start[v as usize]).collect();
+        let local_held: Vec<u32> = (0..to_chart.len() as u32)
+            .filter(|&i| !free[to_chart[i as usize] as usize])
+            .collect();
+        let Ok(solution) =
+            flatten::solve_chart_held(&mesh, opts, &local_start, &local_held, &Silent)
+        else {
+            continue;
+        };
+        if solution.flipped_faces > 0 {
+            continue;
+        }
+        let mut uvs = start.to_vec();
+        for (&v, p) in to_chart.iter().zip(&solution.uvs) {
+            uvs[v as usize] = *p;
+        }
+        return Some(Region {
+            uvs,
+            free,
+            iterations: solution.iterations,
+            solver: solution.solver.to_string(),
+            history: solution.history,
+        });
+    }
+    None
 }
 
 /// The chart's previous texel density `sqrt(Σ|A_uv| / Σ A_3d)` over its faces, or
