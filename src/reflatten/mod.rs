@@ -456,7 +456,7 @@ impl Job<'_> {
         let before = items[k].uvs.first().copied();
         let placement = pack::place_around(
             &placed,
-            &[own.clone()],
+            std::slice::from_ref(&own),
             scale,
             self.settings.resolution,
             self.settings.padding,
