@@ -18,7 +18,7 @@
 //!    translation onto its previous UVs at scale `s_c` ([`super::place::fit`]),
 //!    mirrored when it was.
 
-use nalgebra::Point2;
+use nalgebra::{DVector, Matrix2x3, Point2, Point3, Vector3};
 
 use super::place::fit;
 use crate::charts::Chart;
@@ -26,7 +26,7 @@ use crate::error::Result;
 use crate::flatten::{self, SolveOptions, Start};
 use crate::mesh::PolyMesh;
 use crate::metrics::signed_area;
-use crate::operators::face::vector_area;
+use crate::operators::face::{gradient, vector_area};
 use crate::progress::Silent;
 
 /// Rings of faces around the moved vertices that may move with them.
@@ -88,7 +88,11 @@ pub fn resolve(edit: &ChartEdit, opts: &SolveOptions, hold_boundary: bool) -> Re
 
     let held = held_vertices(edit, &faces, hold_boundary);
     if !held.is_empty() && held.len() < start.len() {
-        if let Some(r) = solve_region(&chart_mesh, &faces, &start, &held, opts) {
+        let rest = PolyMesh {
+            positions: rest_positions(edit, &faces, &start, scale, sign),
+            ..chart_mesh.clone()
+        };
+        if let Some(r) = solve_region(&rest, &faces, &start, &held, opts) {
             let uvs = r
                 .uvs
                 .iter()
@@ -182,6 +186,71 @@ fn solve_region(
         });
     }
     None
+}
+
+/// The surface the local solve measures distortion against: the previous layout
+/// (`start`, in length units) bent by the edit. Each chart vertex sits at its
+/// start UV plus its displacement `d = p_new − p_previous` mapped into the layout by
+/// the previous map's Jacobian around it (area-weighted over its faces, divided by
+/// the density), lifted off the plane by `d`'s component along the previous
+/// normal. Faces without a moved vertex are exactly their previous UV polygons, so
+/// the energy holds them where the previous layout put them, whatever distortion a
+/// hand-made layout gave them; only the edit's change of shape is flattened.
+fn rest_positions(
+    edit: &ChartEdit,
+    faces: &[Vec<u32>],
+    start: &[Point2<f64>],
+    scale: f64,
+    sign: f64,
+) -> Vec<Point3<f64>> {
+    let n = start.len();
+    let mut jacobian = vec![Matrix2x3::zeros(); n];
+    let mut normal = vec![Vector3::zeros(); n];
+    for (local, &f) in faces.iter().zip(&edit.chart.faces) {
+        let Some(corners) = (f as usize)
+            .lt(&edit.previous.face_count())
+            .then(|| edit.previous.face_corners(f as usize))
+        else {
+            continue;
+        };
+        let Ok(g) = gradient(&corners) else {
+            continue;
+        };
+        let u = DVector::from_iterator(
+            local.len(),
+            local.iter().map(|&v| edit.previous_uvs[v as usize].x),
+        );
+        let v = DVector::from_iterator(
+            local.len(),
+            local.iter().map(|&v| edit.previous_uvs[v as usize].y),
+        );
+        let area_vector = vector_area(&corners);
+        let j = Matrix2x3::from_rows(&[(&g * u).transpose(), (&g * v).transpose()])
+            * area_vector.norm();
+        for &k in local {
+            jacobian[k as usize] += j;
+            normal[k as usize] += area_vector;
+        }
+    }
+    (0..n)
+        .map(|i| {
+            let m = edit.chart.vertices[i] as usize;
+            let d = match (edit.edited.positions.get(m), edit.previous.positions.get(m)) {
+                (Some(a), Some(b)) => a - b,
+                _ => Vector3::zeros(),
+            };
+            let weight = normal[i].norm();
+            if !(weight > 0.0) || d == Vector3::zeros() {
+                return Point3::new(start[i].x, start[i].y, 0.0);
+            }
+            let shift = jacobian[i] * d / (weight * scale);
+            Point3::new(
+                start[i].x + sign * shift.x,
+                start[i].y + shift.y,
+                normal[i].dot(&d) / weight,
+            )
+        })
+        .collect()
 }
 
 /// The chart's previous texel density `sqrt(Σ|A_uv| / Σ A_3d)` over its faces, or
