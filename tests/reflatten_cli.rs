@@ -93,6 +93,20 @@ fn a_bad_previous_file_fails_naming_it_and_writes_nothing() {
         assert_eq!(err.trim().lines().count(), 1, "{err}");
         assert!(!out.exists() && !report.exists());
     }
+    // Seams are always the previous layout's.
+    let o = polyflat(&[
+        "reflatten".as_ref(),
+        edited.as_os_str(),
+        "--previous".as_ref(),
+        edited.as_os_str(),
+        "-o".as_ref(),
+        out.as_os_str(),
+        "--seams".as_ref(),
+        "auto".as_ref(),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--seams auto"));
+    assert!(!out.exists());
     // The output may not be one of the inputs.
     let o = reflatten(&edited, &edited, &edited, &report);
     assert_eq!(o.status.code(), Some(1));

@@ -7,7 +7,8 @@ use std::path::PathBuf;
 use super::flatten::{refuse_input, write_all};
 use super::options::FlattenOptions;
 use super::progress_bar::Bars;
-use crate::error::Result;
+use crate::error::{Error, Result};
+use crate::settings::SeamMode;
 use crate::{io, pipeline, reflatten};
 
 /// Re-flattens an edited mesh, keeping a previous layout's islands where they were.
@@ -46,6 +47,13 @@ pub struct ReflattenArgs {
 pub fn run(args: &ReflattenArgs) -> Result<()> {
     let settings = args.options.to_settings()?;
     pipeline::check_solver(&settings)?;
+    if settings.seams == Some(SeamMode::Auto) {
+        return Err(Error::Settings(
+            "--seams auto does not apply to reflatten, which keeps the previous layout's seams \
+             (new faces get automatic seams anyway)"
+                .into(),
+        ));
+    }
     for out in [Some(&args.output), args.report.as_ref()]
         .into_iter()
         .flatten()
