@@ -26,6 +26,7 @@ pub mod pack;
 pub mod pipeline;
 pub mod preview;
 pub mod progress;
+pub mod reflatten;
 pub mod report;
 pub mod serve;
 pub mod settings;

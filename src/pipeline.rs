@@ -58,10 +58,13 @@ pub struct Outcome {
 }
 
 /// A chart with its solution, before packing.
-struct Solved {
-    id: usize,
-    chart: Chart,
-    solution: ChartSolution,
+pub(crate) struct Solved {
+    /// Chart id.
+    pub id: usize,
+    /// The chart.
+    pub chart: Chart,
+    /// Its flattening (UV area = 3D area).
+    pub solution: ChartSolution,
 }
 
 /// The seam mode a run uses: the setting, or `keep` when the input has UVs and
@@ -126,7 +129,10 @@ pub fn flatten_with_charts(
 
 /// Runs `job` on `--threads` worker threads (all cores when unset), after checking
 /// the settings.
-fn in_pool(settings: &Settings, job: impl FnOnce() -> Result<Outcome> + Send) -> Result<Outcome> {
+pub(crate) fn in_pool<T: Send>(
+    settings: &Settings,
+    job: impl FnOnce() -> Result<T> + Send,
+) -> Result<T> {
     settings.validate().map_err(Error::Settings)?;
     match settings.threads {
         Some(n) => rayon::ThreadPoolBuilder::new()
@@ -192,17 +198,72 @@ fn flatten_inner(
     progress.end();
     lap("pack", &mut timings);
 
+    let laid: Vec<Laid> = solved
+        .iter()
+        .zip(&packing.placements)
+        .map(|(s, placement)| Laid {
+            id: s.id,
+            chart: &s.chart,
+            uvs: s.solution.uvs.iter().map(|p| placement.apply(p)).collect(),
+            iterations: s.solution.iterations,
+            solver: s.solution.solver.to_string(),
+        })
+        .collect();
+    let histories: Vec<&[f64]> = solved.iter().map(|s| &s.solution.history[..]).collect();
+    let settings = Settings {
+        seams: Some(mode),
+        ..settings.clone()
+    };
+    let mut outcome = finish(
+        mesh,
+        input_name,
+        &topology,
+        &settings,
+        &laid,
+        timings,
+        total_history(&histories),
+    )?;
+    outcome.report.input.notes = notes;
+    Ok(outcome)
+}
+
+/// One chart in its final place.
+pub(crate) struct Laid<'a> {
+    /// Chart id in the report.
+    pub id: usize,
+    /// The chart.
+    pub chart: &'a Chart,
+    /// Final UV (unit square) of every chart vertex.
+    pub uvs: Vec<Point2<f64>>,
+    /// Solver iterations spent on it.
+    pub iterations: usize,
+    /// The solver that ran (`none` when the chart's UVs were carried over).
+    pub solver: String,
+}
+
+/// Gathers the laid charts into one layout, measures it and writes the report; adds
+/// the `metrics` stage to `timings`. Errors when a face is in no chart.
+pub(crate) fn finish(
+    mesh: &PolyMesh,
+    input_name: &str,
+    topology: &Topology,
+    settings: &Settings,
+    laid: &[Laid],
+    mut timings: BTreeMap<String, f64>,
+    history: Vec<f64>,
+) -> Result<Outcome> {
+    let clock = Instant::now();
     let mut uvs = Vec::new();
     let mut corner_uvs = vec![u32::MAX; mesh.corner_count()];
     let mut face_chart = vec![u32::MAX; mesh.face_count()];
-    for (s, placement) in solved.iter().zip(&packing.placements) {
+    for l in laid {
         let base = uvs.len() as u32;
-        uvs.extend(s.solution.uvs.iter().map(|p| placement.apply(p)));
+        uvs.extend_from_slice(&l.uvs);
         let mut k = 0;
-        for &f in &s.chart.faces {
-            face_chart[f as usize] = s.id as u32;
+        for &f in &l.chart.faces {
+            face_chart[f as usize] = l.id as u32;
             for c in mesh.face_range(f as usize) {
-                corner_uvs[c] = base + s.chart.corners[k];
+                corner_uvs[c] = base + l.chart.corners[k];
                 k += 1;
             }
         }
@@ -214,18 +275,18 @@ fn flatten_inner(
         });
     }
 
-    let laid = PolyMesh {
+    let laid_mesh = PolyMesh {
         uvs: uvs.clone(),
         corner_uvs: Some(corner_uvs.clone()),
         ..mesh.clone()
     };
     let face_metrics = metrics::face_metrics(mesh, &uvs, &corner_uvs)?;
-    let global_metrics = metrics::summarize(&laid, &face_metrics, None);
-    let chart_reports: Vec<ChartReport> = solved
+    let global_metrics = metrics::summarize(&laid_mesh, &face_metrics, None);
+    let chart_reports: Vec<ChartReport> = laid
         .iter()
-        .map(|s| chart_report(&laid, &face_metrics, s))
+        .map(|l| chart_report(&laid_mesh, &face_metrics, l))
         .collect();
-    lap("metrics", &mut timings);
+    timings.insert("metrics".to_string(), clock.elapsed().as_secs_f64() * 1e3);
 
     let report = Report {
         tool: report::Tool::this(),
@@ -235,28 +296,25 @@ fn flatten_inner(
             faces: mesh.face_count(),
             arity_histogram: report::arity_histogram(mesh),
             had_uvs: mesh.corner_uvs.is_some(),
-            notes,
+            notes: Vec::new(),
         },
-        settings: Settings {
-            seams: Some(mode),
-            ..settings.clone()
-        },
+        settings: settings.clone(),
         global: Global {
             metrics: global_metrics,
-            charts: solved.len(),
+            charts: laid.len(),
             energy: settings.energy.to_string(),
-            iterations: solved.iter().map(|s| s.solution.iterations).sum(),
+            iterations: laid.iter().map(|l| l.iterations).sum(),
         },
         charts: chart_reports,
         timings_ms: timings,
-        history: total_history(&solved),
+        history,
     };
     Ok(Outcome {
         uvs,
         corner_uvs,
         face_chart,
         face_metrics,
-        charts: solved.into_iter().map(|s| s.chart).collect(),
+        charts: laid.iter().map(|l| l.chart.clone()).collect(),
         report,
     })
 }
@@ -317,7 +375,7 @@ fn check_charts(mesh: &PolyMesh, charts: &[Chart], file: &str) -> Result<()> {
 }
 
 /// Names the input file in errors that do not already.
-fn in_file(e: Error, file: &str) -> Error {
+pub(crate) fn in_file(e: Error, file: &str) -> Error {
     match e {
         Error::Mesh { message, .. } => Error::Mesh {
             file: file.to_string(),
@@ -336,7 +394,7 @@ fn start_for(energy: EnergyKind) -> Start<'static> {
     }
 }
 
-fn solve_all(
+pub(crate) fn solve_all(
     mesh: &PolyMesh,
     charts: Vec<Chart>,
     options: &SolveOptions,
@@ -371,7 +429,7 @@ fn solve_all(
 
 /// Splits automatic charts whose L2 stretch exceeds `--max-stretch`, or that
 /// overlap or fold on themselves, and flattens the pieces again.
-fn split_over_stretched(
+pub(crate) fn split_over_stretched(
     mesh: &PolyMesh,
     mut solved: Vec<Solved>,
     settings: &Settings,
@@ -547,21 +605,14 @@ fn merge_candidates(
     pairs.into_iter().map(|(p, _)| p).collect()
 }
 
-fn chart_polygons(mesh: &PolyMesh, s: &Solved) -> ChartPolygons {
-    let mut faces = Vec::with_capacity(s.chart.faces.len());
-    let mut k = 0;
-    for &f in &s.chart.faces {
-        let n = mesh.arity(f as usize);
-        faces.push(s.chart.corners[k..k + n].to_vec());
-        k += n;
-    }
+pub(crate) fn chart_polygons(mesh: &PolyMesh, s: &Solved) -> ChartPolygons {
     ChartPolygons {
         points: s.solution.uvs.clone(),
-        faces,
+        faces: s.chart.local_faces(mesh),
     }
 }
 
-fn chart_report(laid: &PolyMesh, face_metrics: &[FaceMetrics], s: &Solved) -> ChartReport {
+fn chart_report(laid: &PolyMesh, face_metrics: &[FaceMetrics], s: &Laid) -> ChartReport {
     let (mut min, mut max) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
     let mut area_3d = 0.0;
     let mut area_uv = 0.0;
@@ -585,8 +636,8 @@ fn chart_report(laid: &PolyMesh, face_metrics: &[FaceMetrics], s: &Solved) -> Ch
         bounding_box: BoundingBox { min, max },
         origin: origin_name(s.chart.origin).to_string(),
         mirrored_in_input: s.chart.mirrored_in_input,
-        iterations: s.solution.iterations,
-        solver: s.solution.solver.to_string(),
+        iterations: s.iterations,
+        solver: s.solver.clone(),
         metrics: metrics::summarize(laid, face_metrics, Some(&s.chart.faces)),
     }
 }
@@ -601,21 +652,14 @@ fn origin_name(origin: ChartOrigin) -> &'static str {
 
 /// Sum over charts of each chart's energy after iteration `k` (a chart that has
 /// stopped keeps its last value).
-fn total_history(solved: &[Solved]) -> Vec<f64> {
-    let longest = solved
-        .iter()
-        .map(|s| s.solution.history.len())
-        .max()
-        .unwrap_or(0);
+pub(crate) fn total_history(histories: &[&[f64]]) -> Vec<f64> {
+    let longest = histories.iter().map(|h| h.len()).max().unwrap_or(0);
     (0..longest)
         .map(|k| {
-            solved
+            histories
                 .iter()
-                .filter_map(|s| {
-                    let h = &s.solution.history;
-                    h.get(k).or(h.last())
-                })
-                .sum()
+                .filter_map(|h| h.get(k).or(h.last()))
+                .sum::<f64>()
         })
         .collect()
 }
@@ -648,7 +692,7 @@ pub fn run_job(
 }
 
 /// The report as pretty-printed JSON bytes.
-pub fn report_bytes(report: &Report) -> Result<Vec<u8>> {
+pub fn report_bytes(report: &impl serde::Serialize) -> Result<Vec<u8>> {
     let mut bytes = serde_json::to_vec_pretty(report)
         .map_err(|e| Error::Settings(format!("cannot encode the report: {e}")))?;
     bytes.push(b'\n');

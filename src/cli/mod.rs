@@ -6,6 +6,7 @@ pub mod compare;
 pub mod flatten;
 pub mod inspect;
 pub mod options;
+pub mod reflatten;
 
 use clap::{Parser, Subcommand};
 
@@ -35,6 +36,8 @@ pub enum Command {
     Compare(compare::CompareArgs),
     /// Flatten many meshes into one folder, skipping those already up to date.
     Batch(batch::BatchArgs),
+    /// Flatten an edited mesh again, keeping a previous layout's islands in place.
+    Reflatten(reflatten::ReflattenArgs),
     /// Run the flattening HTTP service with durable jobs.
     Serve(serve::ServeArgs),
 }
@@ -62,5 +65,15 @@ pub fn run(cli: Cli) -> i32 {
             batch::run(args)
         }
         Command::Serve(args) => serve::run(&args, cli.quiet),
+        Command::Reflatten(mut args) => {
+            args.quiet = cli.quiet;
+            match reflatten::run(&args) {
+                Ok(()) => 0,
+                Err(e) => {
+                    eprintln!("error: {e}");
+                    1
+                }
+            }
+        }
     }
 }

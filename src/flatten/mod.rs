@@ -179,18 +179,7 @@ pub fn solve_chart(
         chart: opts.chart_id,
         message,
     };
-    if !(opts.projection_weight.is_finite() && opts.projection_weight >= 0.0) {
-        return Err(fail(format!(
-            "the projection weight must be a finite number ≥ 0, got {}",
-            opts.projection_weight
-        )));
-    }
-    if !(opts.tolerance.is_finite() && opts.tolerance >= 0.0) {
-        return Err(fail(format!(
-            "the tolerance must be a finite number ≥ 0, got {}",
-            opts.tolerance
-        )));
-    }
+    check_options(opts).map_err(fail)?;
     let prepared = Chart::new(chart, opts.projection_weight).map_err(fail)?;
     let energy = energy::energy(opts.energy);
     let objective = Objective::new(&prepared, energy);
@@ -207,25 +196,7 @@ pub fn solve_chart(
             initial::least_squares_conformal(&prepared).map_err(fail)?,
             StartKind::Conformal,
         ),
-        Start::Given(given) => {
-            if given.len() != chart.vertex_count() {
-                return Err(fail(format!(
-                    "the warm start has {} UVs but the chart has {} vertices",
-                    given.len(),
-                    chart.vertex_count()
-                )));
-            }
-            if let Some(v) = given
-                .iter()
-                .position(|p| !(p.x.is_finite() && p.y.is_finite()))
-            {
-                return Err(fail(format!(
-                    "the warm start's UV of vertex {} is not finite",
-                    v + 1
-                )));
-            }
-            (given.iter().map(|p| [p.x, p.y]).collect(), StartKind::Given)
-        }
+        Start::Given(given) => (given_start(chart, given).map_err(fail)?, StartKind::Given),
     };
     scale_to_area(&prepared, &mut uv).map_err(fail)?;
     if energy.is_barrier() {
@@ -269,33 +240,223 @@ pub fn solve_chart(
         ));
         solver = chosen;
     }
-    let stop = StopRules {
-        max_iterations: opts.max_iterations,
-        tolerance: opts.tolerance,
-        gradient: opts.tolerance * prepared.mean_edge,
-    };
     let pins: Vec<u32> = match opts.energy {
         EnergyKind::Conformal => initial::far_pins(&prepared).to_vec(),
         _ => vec![prepared.loops[0][0]],
     };
+    let shift = opts.energy != EnergyKind::Conformal;
+    let outcome = run_solver(
+        &objective,
+        solver,
+        &pins,
+        shift,
+        opts,
+        &mut uv,
+        &mut timings,
+        progress,
+    )
+    .map_err(fail)?;
+    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    let run = Run {
+        outcome,
+        solver,
+        start: start_kind,
+        notes,
+        timings,
+        began,
+    };
+    Ok(solution(&objective, uv, run))
+}
+
+/// Minimises `opts.energy` over one chart from the given per-vertex UVs `start`,
+/// holding the chart vertices `held` fixed where `start` puts them (a local
+/// re-flattening: the rest of the chart adapts, the held part does not move).
+///
+/// Unlike [`solve_chart`] the result is not rescaled: give `start` at the scale the
+/// energy should see (UV area about the 3D area). With no held vertex this is a
+/// warm-started solve with one pin. Local–global is replaced by Newton (it holds a
+/// single pin only); L-BFGS and Newton are used as chosen.
+///
+/// Errors as [`solve_chart`], and when a held index is past the chart's vertices or,
+/// for a barrier energy, when `start` flips a face (the caller decides what else to
+/// try; there is no silent fallback, which would move held vertices).
+pub fn solve_chart_held(
+    chart: &PolyMesh,
+    opts: &SolveOptions,
+    start: &[Point2<f64>],
+    held: &[u32],
+    progress: &dyn Progress,
+) -> Result<ChartSolution> {
+    let began = Instant::now();
+    let fail = |message: String| Error::Solve {
+        chart: opts.chart_id,
+        message,
+    };
+    check_options(opts).map_err(fail)?;
+    let prepared = Chart::new(chart, opts.projection_weight).map_err(fail)?;
+    let energy = energy::energy(opts.energy);
+    let objective = Objective::new(&prepared, energy);
+    let mut uv = given_start(chart, start).map_err(fail)?;
+    if let Some(&v) = held.iter().find(|&&v| v as usize >= uv.len()) {
+        return Err(fail(format!(
+            "held vertex {} is past the chart's {} vertices",
+            v as u64 + 1,
+            uv.len()
+        )));
+    }
+    if energy.is_barrier() {
+        let flipped = objective.flipped_faces(&uv);
+        if flipped > 0 {
+            return Err(fail(format!(
+                "the given start flips {flipped} faces, so {} cannot start from it",
+                opts.energy
+            )));
+        }
+    }
+    let mut timings = StageTimings {
+        setup_ms: ms(began.elapsed()),
+        ..StageTimings::default()
+    };
+    let mut notes = Vec::new();
+    let solver = match opts.solver {
+        SolverKind::Lbfgs => SolverKind::Lbfgs,
+        SolverKind::LocalGlobal => {
+            notes.push(format!(
+                "the {} solver holds one vertex only; used {} to hold {}",
+                SolverKind::LocalGlobal,
+                SolverKind::Newton,
+                held.len()
+            ));
+            SolverKind::Newton
+        }
+        _ => SolverKind::Newton,
+    };
+    let pins: Vec<u32> = if held.is_empty() {
+        vec![prepared.loops[0][0]]
+    } else {
+        held.to_vec()
+    };
+    // Two held vertices fix the rotation; below that a small shift keeps Newton's
+    // system definite.
+    let shift = pins.len() < 2;
+    let outcome = run_solver(
+        &objective,
+        solver,
+        &pins,
+        shift,
+        opts,
+        &mut uv,
+        &mut timings,
+        progress,
+    )
+    .map_err(fail)?;
+    let run = Run {
+        outcome,
+        solver,
+        start: StartKind::Given,
+        notes,
+        timings,
+        began,
+    };
+    Ok(solution(&objective, uv, run))
+}
+
+/// Checks the options every solve needs.
+fn check_options(opts: &SolveOptions) -> std::result::Result<(), String> {
+    if !(opts.projection_weight.is_finite() && opts.projection_weight >= 0.0) {
+        return Err(format!(
+            "the projection weight must be a finite number ≥ 0, got {}",
+            opts.projection_weight
+        ));
+    }
+    if !(opts.tolerance.is_finite() && opts.tolerance >= 0.0) {
+        return Err(format!(
+            "the tolerance must be a finite number ≥ 0, got {}",
+            opts.tolerance
+        ));
+    }
+    Ok(())
+}
+
+/// A given warm start as solver UVs: one finite UV per chart vertex.
+fn given_start(
+    chart: &PolyMesh,
+    given: &[Point2<f64>],
+) -> std::result::Result<Vec<[f64; 2]>, String> {
+    if given.len() != chart.vertex_count() {
+        return Err(format!(
+            "the warm start has {} UVs but the chart has {} vertices",
+            given.len(),
+            chart.vertex_count()
+        ));
+    }
+    if let Some(v) = given
+        .iter()
+        .position(|p| !(p.x.is_finite() && p.y.is_finite()))
+    {
+        return Err(format!(
+            "the warm start's UV of vertex {} is not finite",
+            v + 1
+        ));
+    }
+    Ok(given.iter().map(|p| [p.x, p.y]).collect())
+}
+
+/// Runs `solver` from `uv` (updated in place) with `pins` held, adding its set-up
+/// time to `timings`.
+#[allow(clippy::too_many_arguments)]
+fn run_solver(
+    objective: &Objective,
+    solver: SolverKind,
+    pins: &[u32],
+    shift: bool,
+    opts: &SolveOptions,
+    uv: &mut [[f64; 2]],
+    timings: &mut StageTimings,
+    progress: &dyn Progress,
+) -> std::result::Result<Outcome, String> {
+    let stop = StopRules {
+        max_iterations: opts.max_iterations,
+        tolerance: opts.tolerance,
+        gradient: opts.tolerance * objective.chart.mean_edge,
+    };
     progress.begin("flatten", opts.max_iterations as u64);
     let setup_clock = Instant::now();
-    let outcome: std::result::Result<Outcome, String> = match solver {
-        SolverKind::LocalGlobal => local_global::run(&objective, pins[0], &mut uv, &stop, progress),
-        SolverKind::Lbfgs => lbfgs::run(&objective, &pins, &mut uv, &stop, progress),
-        _ => newton::Newton::new(&objective, &pins, opts.energy != EnergyKind::Conformal).and_then(
-            |mut n| {
-                timings.setup_ms += ms(setup_clock.elapsed());
-                n.run(&mut uv, &stop, progress)
-            },
-        ),
+    let outcome = match solver {
+        SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, progress),
+        SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
+        _ => newton::Newton::new(objective, pins, shift).and_then(|mut n| {
+            timings.setup_ms += ms(setup_clock.elapsed());
+            n.run(uv, &stop, progress)
+        }),
     };
     progress.end();
-    let outcome = outcome.map_err(fail)?;
-    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    outcome
+}
+
+/// What a solver run left besides the UVs.
+struct Run {
+    outcome: Outcome,
+    solver: SolverKind,
+    start: StartKind,
+    notes: Vec<String>,
+    timings: StageTimings,
+    began: Instant,
+}
+
+/// The [`ChartSolution`] of a finished run.
+fn solution(objective: &Objective, uv: Vec<[f64; 2]>, run: Run) -> ChartSolution {
+    let Run {
+        outcome,
+        solver,
+        start,
+        notes,
+        mut timings,
+        began,
+    } = run;
     let flipped_faces = objective.flipped_faces(&uv);
     // The solvers work above the energy's floor Σ_f A_f min ψ; report E itself.
-    let floor = prepared.area * energy.minimum();
+    let floor = objective.chart.area * objective.energy.minimum();
     let c = outcome.clocks;
     timings.evaluate_ms = ms(c.evaluate);
     timings.assemble_ms = ms(c.assemble);
@@ -305,7 +466,7 @@ pub fn solve_chart(
     timings.solve_ms = ms(c.solve);
     timings.line_search_ms = ms(c.line_search);
     timings.total_ms = ms(began.elapsed());
-    Ok(ChartSolution {
+    ChartSolution {
         uvs: uv.iter().map(|p| Point2::new(p[0], p[1])).collect(),
         history_ms: outcome
             .reached
@@ -315,11 +476,11 @@ pub fn solve_chart(
         history: outcome.history.iter().map(|e| e + floor).collect(),
         iterations: outcome.iterations,
         solver,
-        start: start_kind,
+        start,
         flipped_faces,
         timings,
         notes,
-    })
+    }
 }
 
 fn start_name(kind: StartKind) -> &'static str {

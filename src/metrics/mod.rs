@@ -15,5 +15,6 @@ pub use face::{
     FaceMetrics, DISTORTION_CAP,
 };
 pub use jacobian::{jacobian, signed_singular_values};
+pub(crate) use overlap::overlapping_pairs_among;
 pub use overlap::{overlapping_face_pairs, RELATIVE_TOLERANCE};
 pub use summary::{summarize, Metrics};

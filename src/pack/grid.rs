@@ -12,6 +12,7 @@
 use super::raster::Mask;
 
 /// A square occupancy bitmap of `size × size` cells.
+#[derive(Clone)]
 pub struct Grid {
     size: i32,
     words: usize,

@@ -10,9 +10,12 @@
 //! apart (exact Euclidean distance). Everything is deterministic: same input, same
 //! bits.
 
+mod around;
 mod grid;
 mod hull;
 mod raster;
+
+pub use around::place_around;
 
 pub use hull::{convex_hull, min_area_rect, OrientedRect};
 
@@ -148,22 +151,7 @@ struct Layout {
 /// when a chart refers to a missing point, has a non-finite coordinate or no face, or
 /// when the charts cannot fit at this resolution and padding.
 pub fn pack(charts: &[ChartPolygons], resolution: u32, padding: u32) -> Result<Packing> {
-    if resolution == 0 {
-        return Err(Error::Pack("--resolution must be at least 1 texel".into()));
-    }
-    let cell = resolution.div_ceil(MAX_GRID);
-    let layout = Layout {
-        size: (resolution / cell) as i32,
-        margin: padding.div_ceil(cell) as i32,
-        cells_per_uv: f64::from(resolution) / f64::from(cell),
-        resolution,
-        padding,
-    };
-    if 2 * layout.margin >= layout.size {
-        return Err(Error::Pack(format!(
-            "--padding {padding} leaves no room in a {resolution}-texel texture"
-        )));
-    }
+    let layout = Layout::new(resolution, padding)?;
     let prepared = charts
         .iter()
         .enumerate()
@@ -276,6 +264,29 @@ impl Order {
             .then(a.cmp(&b))
         });
         order
+    }
+}
+
+impl Layout {
+    /// The grid for a texture of `resolution` texels with `padding` texels of gap.
+    fn new(resolution: u32, padding: u32) -> Result<Layout> {
+        if resolution == 0 {
+            return Err(Error::Pack("--resolution must be at least 1 texel".into()));
+        }
+        let cell = resolution.div_ceil(MAX_GRID);
+        let layout = Layout {
+            size: (resolution / cell) as i32,
+            margin: padding.div_ceil(cell) as i32,
+            cells_per_uv: f64::from(resolution) / f64::from(cell),
+            resolution,
+            padding,
+        };
+        if 2 * layout.margin >= layout.size {
+            return Err(Error::Pack(format!(
+                "--padding {padding} leaves no room in a {resolution}-texel texture"
+            )));
+        }
+        Ok(layout)
     }
 }
 
@@ -408,6 +419,17 @@ fn attempt(
     layout: Layout,
     scale: f64,
 ) -> Option<Vec<Spot>> {
+    attempt_on(grid::Grid::new(layout.size), prepared, order, layout, scale)
+}
+
+/// [`attempt`] on a grid where some cells are already taken.
+fn attempt_on(
+    mut grid: grid::Grid,
+    prepared: &[Prepared],
+    order: &[usize],
+    layout: Layout,
+    scale: f64,
+) -> Option<Vec<Spot>> {
     let footprints: Vec<[Footprint; 8]> = order
         .par_iter()
         .map(|&i| {
@@ -415,7 +437,6 @@ fn attempt(
             TURNS.map(|turn| footprint(p, p.rect.rotation + turn, scale, layout))
         })
         .collect();
-    let mut grid = grid::Grid::new(layout.size);
     let mut spots = Vec::with_capacity(order.len());
     for (&i, options) in order.iter().zip(&footprints) {
         let mut best: Option<(i32, i32, &Footprint)> = None;
