@@ -5,7 +5,14 @@ use std::process::Command;
 
 #[test]
 fn every_command_help_ends_with_examples_of_itself() {
-    for cmd in ["inspect", "flatten", "compare", "batch", "serve"] {
+    for cmd in [
+        "inspect",
+        "flatten",
+        "compare",
+        "reflatten",
+        "batch",
+        "serve",
+    ] {
         let out = Command::new(env!("CARGO_BIN_EXE_polyflat"))
             .args([cmd, "--help"])
             .output()

@@ -6,10 +6,11 @@
 //! When they do not fit at that scale, the scale shrinks by [`super::SHRINK`] until
 //! they do.
 
-use nalgebra::{Point2, Vector2};
+use nalgebra::Point2;
 
 use super::{
-    attempt_on, grid, prepare, raster, too_many, ChartPolygons, Layout, Order, Placement, SHRINK,
+    attempt_on, grid, placements, prepare, raster, too_many, ChartPolygons, Layout, Order,
+    Placement, SHRINK,
 };
 use crate::error::Result;
 
@@ -60,21 +61,7 @@ pub fn place_around(
     let mut scale = scale;
     loop {
         if let Some(spots) = attempt_on(taken.clone(), &prepared, &order, layout, scale) {
-            let mut placements = vec![
-                Placement {
-                    rotation: 0.0,
-                    scale,
-                    translation: Vector2::zeros(),
-                };
-                prepared.len()
-            ];
-            for spot in spots {
-                if let Some(p) = placements.get_mut(spot.chart) {
-                    p.rotation = spot.rotation;
-                    p.translation = spot.offset;
-                }
-            }
-            return Ok(placements);
+            return Ok(placements(&spots, prepared.len(), scale));
         }
         if !(scale * longest * k >= 1.0) {
             return Err(too_many(layout));

@@ -210,28 +210,31 @@ pub fn pack(charts: &[ChartPolygons], resolution: u32, padding: u32) -> Result<P
         let spots = attempt(&prepared, &order, layout, 1.0).ok_or_else(|| too_many(layout))?;
         (1.0, spots)
     };
+    Ok(Packing {
+        placements: placements(&spots, prepared.len(), scale),
+        scale,
+        utilization: total_area * scale * scale,
+    })
+}
+
+/// One placement per chart (`count` charts) at `scale` from the spots found; a chart
+/// without a spot stays at the origin unturned.
+fn placements(spots: &[Spot], count: usize, scale: f64) -> Vec<Placement> {
     let mut placements = vec![
         Placement {
             rotation: 0.0,
             scale,
             translation: Vector2::zeros(),
         };
-        prepared.len()
+        count
     ];
     for spot in spots {
         if let Some(p) = placements.get_mut(spot.chart) {
-            *p = Placement {
-                rotation: spot.rotation,
-                scale,
-                translation: spot.offset,
-            };
+            p.rotation = spot.rotation;
+            p.translation = spot.offset;
         }
     }
-    Ok(Packing {
-        placements,
-        scale,
-        utilization: total_area * scale * scale,
-    })
+    placements
 }
 
 /// The orders in which charts are placed; every one is tried.
