@@ -12,39 +12,9 @@ use polyflat::reflatten::Status;
 use polyflat::{pipeline, PolyMesh, Settings};
 use reflatten_support::*;
 
-/// Two wavy 16 × 16 quad patches side by side (two charts).
-fn two_patches() -> PolyMesh {
-    let grid = flatten_common::quad_grid(16, 16, 1.0 / 16.0, 0.2);
-    let wavy = flatten_common::mapped(&grid, |p| {
-        Point3::new(p.x, p.y, 0.08 * (5.0 * p.x).sin() * (4.0 * p.y).cos())
-    });
-    let n = wavy.positions.len() as u32;
-    let mut positions = wavy.positions.clone();
-    positions.extend(
-        wavy.positions
-            .iter()
-            .map(|p| Point3::new(p.x + 1.5, p.y, p.z)),
-    );
-    let faces: Vec<Vec<u32>> = wavy
-        .faces()
-        .map(|f| f.to_vec())
-        .chain(wavy.faces().map(|f| f.iter().map(|v| v + n).collect()))
-        .collect();
-    PolyMesh::from_faces(positions, &faces)
-}
-
-fn spot(name: &str) -> Option<PolyMesh> {
-    let path = flatten_common::fixtures()?.join("spot").join(name);
-    Some(
-        polyflat::io::read_obj(&path)
-            .expect("readable Spot fixture")
-            .mesh,
-    )
-}
-
 #[test]
 fn a_bump_on_one_patch_moves_only_that_patch() {
-    let mesh = two_patches();
+    let mesh = two_patches(16);
     let outcome = pipeline::flatten(
         &mesh,
         "two.obj",
@@ -86,7 +56,7 @@ fn a_bump_on_one_patch_moves_only_that_patch() {
 
 #[test]
 fn an_unedited_mesh_keeps_its_layout_exactly() {
-    let mesh = two_patches();
+    let mesh = two_patches(16);
     let outcome = pipeline::flatten(
         &mesh,
         "two.obj",

@@ -12,27 +12,6 @@ use polyflat::reflatten::Status;
 use polyflat::{pipeline, PolyMesh, Settings};
 use reflatten_support::*;
 
-/// Two wavy 12 × 12 quad patches side by side, and the face count of one.
-fn two_patches() -> (PolyMesh, usize) {
-    let grid = flatten_common::quad_grid(12, 12, 1.0 / 12.0, 0.2);
-    let wavy = flatten_common::mapped(&grid, |p| {
-        Point3::new(p.x, p.y, 0.08 * (5.0 * p.x).sin() * (4.0 * p.y).cos())
-    });
-    let n = wavy.positions.len() as u32;
-    let mut positions = wavy.positions.clone();
-    positions.extend(
-        wavy.positions
-            .iter()
-            .map(|p| Point3::new(p.x + 1.5, p.y, p.z)),
-    );
-    let faces: Vec<Vec<u32>> = wavy
-        .faces()
-        .map(|f| f.to_vec())
-        .chain(wavy.faces().map(|f| f.iter().map(|v| v + n).collect()))
-        .collect();
-    (PolyMesh::from_faces(positions, &faces), wavy.face_count())
-}
-
 /// `mesh` with each face in `split` cut into two triangles along its first
 /// diagonal, face `fan` replaced by four triangles around its centroid (a new
 /// vertex), and the faces in `delete` removed.
@@ -106,7 +85,8 @@ fn assert_clean(
 
 #[test]
 fn split_deleted_and_fanned_faces_on_one_patch_leave_the_other_carried() {
-    let (mesh, per_patch) = two_patches();
+    let mesh = two_patches(12);
+    let per_patch = mesh.face_count() / 2;
     let outcome = pipeline::flatten(
         &mesh,
         "two.obj",

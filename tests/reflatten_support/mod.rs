@@ -8,6 +8,38 @@ use polyflat::pipeline::Outcome;
 use polyflat::reflatten::{self, Reflattened, Status};
 use polyflat::{PolyMesh, Settings};
 
+/// Two wavy `n × n` quad patches side by side (two charts), the first patch's faces
+/// first.
+pub fn two_patches(n: usize) -> PolyMesh {
+    let grid = crate::flatten_common::quad_grid(n, n, 1.0 / n as f64, 0.2);
+    let wavy = crate::flatten_common::mapped(&grid, |p| {
+        Point3::new(p.x, p.y, 0.08 * (5.0 * p.x).sin() * (4.0 * p.y).cos())
+    });
+    let count = wavy.positions.len() as u32;
+    let mut positions = wavy.positions.clone();
+    positions.extend(
+        wavy.positions
+            .iter()
+            .map(|p| Point3::new(p.x + 1.5, p.y, p.z)),
+    );
+    let faces: Vec<Vec<u32>> = wavy
+        .faces()
+        .map(|f| f.to_vec())
+        .chain(wavy.faces().map(|f| f.iter().map(|v| v + count).collect()))
+        .collect();
+    PolyMesh::from_faces(positions, &faces)
+}
+
+/// A Spot fixture mesh, or `None` (skip message; fails under `CI`) when absent.
+pub fn spot(name: &str) -> Option<PolyMesh> {
+    let path = crate::flatten_common::fixtures()?.join("spot").join(name);
+    Some(
+        polyflat::io::read_obj(&path)
+            .expect("readable Spot fixture")
+            .mesh,
+    )
+}
+
 /// `mesh` with its layout replaced by `outcome`'s (what `flatten` writes to its OBJ).
 pub fn with_layout(mesh: &PolyMesh, outcome: &Outcome) -> PolyMesh {
     PolyMesh {
