@@ -43,13 +43,15 @@ fn distortion(mesh: &PolyMesh, s: &ChartSolution) -> (f64, f64) {
     ((num / den).sqrt(), worst)
 }
 
-fn run(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind) -> ChartSolution {
+/// Solves `mesh` from `start`: sections 1–3 start as the pipeline does (least-squares
+/// conformal, Tutte when that folds), section 4 from Tutte as its question asks.
+fn run(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind, start: Start) -> ChartSolution {
     let opts = SolveOptions {
         energy,
         solver,
         ..SolveOptions::default()
     };
-    match solve_chart(mesh, &opts, Start::Tutte, &Silent) {
+    match solve_chart(mesh, &opts, start, &Silent) {
         Ok(s) => s,
         Err(e) => {
             eprintln!("{energy} with {solver} failed: {e}");
@@ -116,7 +118,7 @@ fn main() {
                 .into_iter()
                 .enumerate()
             {
-                let s = run(mesh, energy, solver);
+                let s = run(mesh, energy, solver, Start::Conformal);
                 row(case, mesh, energy, &s);
                 total[k] = s.timings.total_ms;
                 if solver == SolverKind::Newton {
@@ -151,7 +153,7 @@ fn main() {
     for n in sizes {
         let mesh = bump_disk(n);
         for energy in [EnergyKind::Arap, EnergyKind::SymmetricDirichlet] {
-            let s = run(&mesh, energy, SolverKind::Auto);
+            let s = run(&mesh, energy, SolverKind::Auto, Start::Conformal);
             row(&format!("{n}×{n} quads"), &mesh, energy, &s);
         }
     }
@@ -161,7 +163,12 @@ fn main() {
     println!("|---|---|---|---|---|---|");
     let tri_disk = common::triangulated(&bump_disk(150));
     for solver in [SolverKind::Newton, SolverKind::Lbfgs] {
-        let s = run(&tri_disk, EnergyKind::SymmetricDirichlet, solver);
+        let s = run(
+            &tri_disk,
+            EnergyKind::SymmetricDirichlet,
+            solver,
+            Start::Tutte,
+        );
         let converged = s.history.iter().copied().fold(f64::INFINITY, f64::min);
         let k = s
             .history

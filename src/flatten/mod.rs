@@ -148,16 +148,17 @@ pub struct ChartSolution {
 }
 
 /// The solver [`SolverKind::Auto`] stands for with `energy`, as measured by
-/// `examples/bench_flatten.rs` (README, Performance): for `arap`, local–global (its
-/// global matrix is factored once; 0.21 s against Newton's 0.45 s on a 10k-quad
-/// bump, same final distortion); for `symmetric-dirichlet`, Newton (L-BFGS stalls
-/// far from the minimum on quads: L2 stretch 1.099 against 1.004); for `conformal`,
-/// Newton (the energy is quadratic, so one step from the least-squares conformal
-/// start finishes it).
+/// `examples/bench_flatten.rs` (README, Performance): Newton for every energy. For
+/// `arap`, local–global is faster on a 10k-quad bump (0.28 s against 0.43 s, same
+/// result) but slower at 100k quads (10.6 s, its 25 back-substitutions costing more
+/// than Newton's few factorizations), so Newton has the better worst case; for
+/// `symmetric-dirichlet` L-BFGS needs 200 iterations where Newton needs 4 from the
+/// conformal start; `conformal` is quadratic, so Newton finishes in one step.
 pub fn auto_solver(energy: EnergyKind) -> SolverKind {
     match energy {
-        EnergyKind::Arap => SolverKind::LocalGlobal,
-        EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => SolverKind::Newton,
+        EnergyKind::Arap | EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => {
+            SolverKind::Newton
+        }
     }
 }
 
