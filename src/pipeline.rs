@@ -147,6 +147,35 @@ pub(crate) fn in_pool<T: Send>(
     }
 }
 
+/// Wall-clock milliseconds per stage, for the report's `timings_ms`.
+pub(crate) struct Stages {
+    timings: BTreeMap<String, f64>,
+    clock: Instant,
+}
+
+impl Stages {
+    /// Starts timing the first stage.
+    pub(crate) fn start() -> Stages {
+        Stages {
+            timings: BTreeMap::new(),
+            clock: Instant::now(),
+        }
+    }
+
+    /// Ends the current stage under `name` and starts the next.
+    pub(crate) fn lap(&mut self, name: &str) {
+        let now = Instant::now();
+        self.timings
+            .insert(name.to_string(), (now - self.clock).as_secs_f64() * 1e3);
+        self.clock = now;
+    }
+
+    /// The stages timed so far.
+    pub(crate) fn into_timings(self) -> BTreeMap<String, f64> {
+        self.timings
+    }
+}
+
 fn flatten_inner(
     mesh: &PolyMesh,
     input_name: &str,
@@ -154,17 +183,11 @@ fn flatten_inner(
     fixed_charts: Option<&[Chart]>,
     progress: &dyn Progress,
 ) -> Result<Outcome> {
-    let mut timings = BTreeMap::new();
-    let mut clock = Instant::now();
-    let mut lap = |name: &str, timings: &mut BTreeMap<String, f64>| {
-        let now = Instant::now();
-        timings.insert(name.to_string(), (now - clock).as_secs_f64() * 1e3);
-        clock = now;
-    };
+    let mut stages = Stages::start();
 
     let topology = Topology::build(mesh);
     let notes = check_mesh(mesh, &topology, input_name)?;
-    lap("validate", &mut timings);
+    stages.lap("validate");
 
     let mode = seam_mode(mesh, settings);
     let charts = match fixed_charts {
@@ -174,7 +197,7 @@ fn flatten_inner(
         }
         None => {
             let built = charts::build(mesh, &topology, mode).map_err(|e| in_file(e, input_name))?;
-            lap("charts", &mut timings);
+            stages.lap("charts");
             built
         }
     };
@@ -183,13 +206,13 @@ fn flatten_inner(
     progress.begin("flattening charts", charts.len() as u64);
     let mut solved = solve_all(mesh, charts, &options, progress)?;
     progress.end();
-    lap("solve", &mut timings);
+    stages.lap("solve");
 
     if mode == SeamMode::Auto && fixed_charts.is_none() {
         solved = split_over_stretched(mesh, solved, settings, &options, progress)?;
-        lap("resplit", &mut timings);
+        stages.lap("resplit");
         solved = merge_neighbours(mesh, &topology, solved, settings, &options, progress);
-        lap("merge", &mut timings);
+        stages.lap("merge");
     }
     for (id, s) in solved.iter_mut().enumerate() {
         s.id = id;
@@ -199,7 +222,7 @@ fn flatten_inner(
     let polygons: Vec<ChartPolygons> = solved.iter().map(|s| chart_polygons(mesh, s)).collect();
     let packing = pack::pack(&polygons, settings.resolution, settings.padding)?;
     progress.end();
-    lap("pack", &mut timings);
+    stages.lap("pack");
 
     let laid: Vec<Laid> = solved
         .iter()
@@ -223,7 +246,7 @@ fn flatten_inner(
         &topology,
         &settings,
         &laid,
-        timings,
+        stages.into_timings(),
         total_history(&histories),
     )?;
     outcome.report.input.notes = notes;

@@ -15,14 +15,7 @@ use reflatten_support::*;
 #[test]
 fn a_bump_on_one_patch_moves_only_that_patch() {
     let mesh = two_patches(16);
-    let outcome = pipeline::flatten(
-        &mesh,
-        "two.obj",
-        &Settings::default(),
-        &polyflat::progress::Silent,
-    )
-    .unwrap();
-    let previous = with_layout(&mesh, &outcome);
+    let (previous, _) = own_layout(&mesh);
     let (edited, moved) = bump(&mesh, Point3::new(0.5, 0.5, 0.0), 0.15, 0.05);
     assert!(moved > 5 && moved < 40, "{moved} vertices moved");
     let r = run(&edited, &previous);
@@ -57,14 +50,7 @@ fn a_bump_on_one_patch_moves_only_that_patch() {
 #[test]
 fn an_unedited_mesh_keeps_its_layout_exactly() {
     let mesh = two_patches(16);
-    let outcome = pipeline::flatten(
-        &mesh,
-        "two.obj",
-        &Settings::default(),
-        &polyflat::progress::Silent,
-    )
-    .unwrap();
-    let previous = with_layout(&mesh, &outcome);
+    let (previous, _) = own_layout(&mesh);
     let r = run(&mesh, &previous);
     assert!(r.section.charts.iter().all(|c| c.status == Status::Carried));
     assert_eq!(r.section.drift_texels.max, 0.0);

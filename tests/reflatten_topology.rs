@@ -9,7 +9,7 @@ mod reflatten_support;
 
 use nalgebra::Point3;
 use polyflat::reflatten::Status;
-use polyflat::{pipeline, PolyMesh, Settings};
+use polyflat::PolyMesh;
 use reflatten_support::*;
 
 /// `mesh` with each face in `split` cut into two triangles along its first
@@ -87,15 +87,8 @@ fn assert_clean(
 fn split_deleted_and_fanned_faces_on_one_patch_leave_the_other_carried() {
     let mesh = two_patches(12);
     let per_patch = mesh.face_count() / 2;
-    let outcome = pipeline::flatten(
-        &mesh,
-        "two.obj",
-        &Settings::default(),
-        &polyflat::progress::Silent,
-    )
-    .unwrap();
+    let (previous, outcome) = own_layout(&mesh);
     assert_eq!(outcome.report.charts.len(), 2, "one chart per patch");
-    let previous = with_layout(&mesh, &outcome);
     let edited = remeshed(&mesh, &[13, 14, 15, 26], Some(40), &[90, 91]);
     let r = run(&edited, &previous);
     assert_clean("patches", &edited, &r, 0);

@@ -9,8 +9,8 @@
 use nalgebra::Point2;
 
 use super::{
-    attempt_on, grid, placements, prepare, raster, too_many, ChartPolygons, Layout, Order,
-    Placement, SHRINK,
+    attempt_on, grid, placements, prepare, prepare_all, raster, too_many, ChartPolygons, Layout,
+    Order, Placement, SHRINK,
 };
 use crate::error::Result;
 
@@ -29,11 +29,7 @@ pub fn place_around(
     padding: u32,
 ) -> Result<Vec<Placement>> {
     let layout = Layout::new(resolution, padding)?;
-    let prepared = charts
-        .iter()
-        .enumerate()
-        .map(|(i, c)| prepare(i, c))
-        .collect::<Result<Vec<_>>>()?;
+    let prepared = prepare_all(charts)?;
     if prepared.is_empty() {
         return Ok(Vec::new());
     }

@@ -157,11 +157,7 @@ struct Layout {
 /// when the charts cannot fit at this resolution and padding.
 pub fn pack(charts: &[ChartPolygons], resolution: u32, padding: u32) -> Result<Packing> {
     let layout = Layout::new(resolution, padding)?;
-    let prepared = charts
-        .iter()
-        .enumerate()
-        .map(|(i, c)| prepare(i, c))
-        .collect::<Result<Vec<_>>>()?;
+    let prepared = prepare_all(charts)?;
     if prepared.is_empty() {
         return Ok(Packing {
             placements: Vec::new(),
@@ -309,6 +305,15 @@ fn too_many(layout: Layout) -> Error {
          --resolution or lower --padding",
         layout.resolution, layout.padding
     ))
+}
+
+/// [`prepare`] for every chart, in order.
+fn prepare_all(charts: &[ChartPolygons]) -> Result<Vec<Prepared>> {
+    charts
+        .iter()
+        .enumerate()
+        .map(|(i, c)| prepare(i, c))
+        .collect()
 }
 
 /// Checks a chart and computes its rectangle and area.

@@ -30,8 +30,6 @@ pub mod place;
 
 use nalgebra::{Point2, Vector2};
 use serde::{Deserialize, Serialize};
-use std::collections::BTreeMap;
-use std::time::Instant;
 
 use crate::charts::{self, Chart};
 use crate::error::{Error, Result};
@@ -180,13 +178,7 @@ struct Item {
 
 impl Job<'_> {
     fn run(&self, progress: &dyn Progress) -> Result<Reflattened> {
-        let mut timings = BTreeMap::new();
-        let mut clock = Instant::now();
-        let mut lap = |name: &str, timings: &mut BTreeMap<String, f64>| {
-            let now = Instant::now();
-            timings.insert(name.to_string(), (now - clock).as_secs_f64() * 1e3);
-            clock = now;
-        };
+        let mut stages = pipeline::Stages::start();
         let (edited, previous) = (self.edited, self.previous);
         let Some(previous_corner_uvs) = previous.corner_uvs.as_deref() else {
             return Err(Error::Mesh {
@@ -197,7 +189,7 @@ impl Job<'_> {
         pipeline::check_mesh(previous, &Topology::build(previous), self.previous_name)?;
         let topology = Topology::build(edited);
         let notes = pipeline::check_mesh(edited, &topology, self.edited_name)?;
-        lap("validate", &mut timings);
+        stages.lap("validate");
 
         let corr = matching::correspond(edited, previous);
         let previous_uv = |c: usize| -> Option<Point2<f64>> {
@@ -205,7 +197,7 @@ impl Job<'_> {
             let t = *previous_corner_uvs.get(k as usize)?;
             previous.uvs.get(t as usize).copied()
         };
-        lap("match", &mut timings);
+        stages.lap("match");
 
         let (matched, unmatched): (Vec<u32>, Vec<u32>) =
             (0..edited.face_count() as u32).partition(|&f| corr.face[f as usize].is_some());
@@ -245,14 +237,14 @@ impl Job<'_> {
             progress.advance(k as u64 + 1);
         }
         progress.end();
-        lap("solve", &mut timings);
+        stages.lap("solve");
 
         self.clear_overlaps(&mut items, &corr, &options, global_scale)?;
-        lap("overlaps", &mut timings);
+        stages.lap("overlaps");
 
         let new_items = self.new_charts(&unmatched, &items, &options, global_scale, progress)?;
         items.extend(new_items);
-        lap("new charts", &mut timings);
+        stages.lap("new charts");
 
         let laid: Vec<Laid> = items
             .iter()
@@ -276,7 +268,7 @@ impl Job<'_> {
             &topology,
             &settings,
             &laid,
-            timings,
+            stages.into_timings(),
             pipeline::total_history(&histories),
         )?;
         outcome.report.input.notes = notes;

@@ -40,6 +40,19 @@ pub fn spot(name: &str) -> Option<PolyMesh> {
     )
 }
 
+/// `mesh` flattened by polyflat with default settings, as the previous layout, and
+/// the run's outcome.
+pub fn own_layout(mesh: &PolyMesh) -> (PolyMesh, Outcome) {
+    let outcome = polyflat::pipeline::flatten(
+        mesh,
+        "previous.obj",
+        &Settings::default(),
+        &polyflat::progress::Silent,
+    )
+    .expect("previous layout");
+    (with_layout(mesh, &outcome), outcome)
+}
+
 /// `mesh` with its layout replaced by `outcome`'s (what `flatten` writes to its OBJ).
 pub fn with_layout(mesh: &PolyMesh, outcome: &Outcome) -> PolyMesh {
     PolyMesh {
