@@ -135,6 +135,10 @@ fn whole_runs() {
     .iter()
     .map(|n| (root.join("fixtures").join(n), None))
     .collect();
+    // The torus and the cube also without their own UVs.
+    for n in ["cube_quads.obj", "torus_quads.obj"] {
+        files.push((root.join("fixtures").join(n), Some(SeamMode::Auto)));
+    }
     let spot = root.join("../shared/fixtures/spot/spot_quadrangulated.obj");
     if spot.is_file() {
         files.push((spot.clone(), Some(SeamMode::Keep)));

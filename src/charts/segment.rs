@@ -70,6 +70,18 @@ const SMALL_REGION: f64 = 0.15;
 /// is a sliver and merges into a neighbour.
 const SLIVER_RATIO: f64 = 12.0;
 
+/// Cost of a seam along a crease relative to one across smooth surface, in boundary
+/// smoothing: seams are cheap where the surface folds anyway.
+const CREASE_SEAM_COST: f64 = 0.25;
+
+/// Boundary smoothing sweeps at most (each sweep visits every face once).
+const SMOOTH_SWEEPS: usize = 32;
+
+/// Boundary smoothing takes no face from a region of fewer faces than this, so it
+/// never dissolves a small region (a split of a small, badly stretched chart must
+/// keep both parts).
+const SMOOTH_MIN_REGION: usize = 16;
+
 /// Per-face geometry of a mesh.
 struct Faces {
     /// Unit normal (zero for degenerate faces).
@@ -369,7 +381,85 @@ fn regions(m: &PolyMesh, t: &Topology, joinable: &[bool]) -> Vec<u32> {
         proxies.extend(added);
     }
     merge(&faces, &dual, t, &mut label);
+    smooth(&dual, &mut label);
     label
+}
+
+/// Boundary smoothing of region labels: a face moves to a neighbouring region when
+/// that shortens the seams, i.e. when the (crease-discounted) length of its border
+/// with that region exceeds its border with its own region. Teeth, one-face notches
+/// and one-face-wide fingers left by region growing on a quad grid go; staircases of
+/// two or more faces stay. A face moves only while at most one neighbour shares its
+/// region, so no region is cut in two. Every move strictly shortens the weighted seam
+/// length, so the sweeps end; their number is capped anyway. In-place sweeps in face
+/// order keep it deterministic. Crease edges are never opened, and small regions
+/// ([`SMOOTH_MIN_REGION`]) give no faces away.
+fn smooth(dual: &Dual, label: &mut [u32]) {
+    let cost = |e: u32| {
+        let e = e as usize;
+        let length = dual.length.get(e).copied().unwrap_or(0.0);
+        if dual.crease.get(e).copied().unwrap_or(false) {
+            length * CREASE_SEAM_COST
+        } else {
+            length
+        }
+    };
+    let mut size: std::collections::HashMap<u32, usize> = std::collections::HashMap::new();
+    for &l in label.iter().filter(|&&l| l != NONE) {
+        *size.entry(l).or_default() += 1;
+    }
+    let mut border: Vec<(u32, f64)> = Vec::new();
+    for _ in 0..SMOOTH_SWEEPS {
+        let mut moved = false;
+        for f in 0..label.len() {
+            let own = label[f];
+            if own == NONE || size.get(&own).copied().unwrap_or(0) < SMOOTH_MIN_REGION {
+                continue;
+            }
+            border.clear();
+            let mut own_count = 0;
+            for &(g, e) in dual.neighbours(f as u32) {
+                let r = label[g as usize];
+                if r == NONE {
+                    continue;
+                }
+                own_count += usize::from(r == own);
+                // A region across a crease is never joined: the crease stays a seam.
+                let w = if dual.crease[e as usize] && r != own {
+                    f64::NEG_INFINITY
+                } else {
+                    cost(e)
+                };
+                match border.iter_mut().find(|(l, _)| *l == r) {
+                    Some(b) => b.1 += w,
+                    None => border.push((r, w)),
+                }
+            }
+            if own_count > 1 {
+                continue;
+            }
+            let keep = border.iter().find(|(l, _)| *l == own).map_or(0.0, |b| b.1);
+            // The strongest other region; ties go to the lowest label.
+            let best = border.iter().filter(|(l, _)| *l != own).fold(
+                None,
+                |best: Option<(u32, f64)>, &(l, w)| match best {
+                    Some((bl, bw)) if bw > w || (bw == w && bl < l) => Some((bl, bw)),
+                    _ => Some((l, w)),
+                },
+            );
+            if let Some((l, w)) = best {
+                if w > keep * (1.0 + 1e-9) {
+                    label[f] = l;
+                    *size.entry(own).or_default() -= 1;
+                    *size.entry(l).or_default() += 1;
+                    moved = true;
+                }
+            }
+        }
+        if !moved {
+            break;
+        }
+    }
 }
 
 /// Area-weighted sums of a region's normals for cone fitting.
@@ -693,6 +783,7 @@ pub(super) fn split_two(mesh: &PolyMesh, chart: &Chart) -> Option<Vec<Chart>> {
     for l in label.iter_mut().filter(|l| **l == NONE) {
         *l = 0;
     }
+    smooth(&dual, &mut label);
     let cut: Vec<bool> = same_label(&cm, &t, &label).iter().map(|&j| !j).collect();
     let mut parts = recut(chart, &cm, &t, &cut);
     if parts.len() < 2 {
@@ -748,5 +839,82 @@ pub(super) fn split(mesh: &PolyMesh, chart: &Chart) -> Vec<Chart> {
             })
             .collect(),
         None => vec![chart.clone()],
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A flat `n × n` quad grid (face `(i, j)` is `j * n + i`), optionally folded by
+    /// 90° along the column line `x = fold` (a crease).
+    fn grid(n: usize, fold: Option<usize>) -> PolyMesh {
+        let lift = |i: usize, j: usize| match fold {
+            Some(c) if i > c => Point3::new(c as f64, j as f64, (i - c) as f64),
+            _ => Point3::new(i as f64, j as f64, 0.0),
+        };
+        let mut positions = Vec::new();
+        for j in 0..=n {
+            for i in 0..=n {
+                positions.push(lift(i, j));
+            }
+        }
+        let v = |i: usize, j: usize| (j * (n + 1) + i) as u32;
+        let faces: Vec<Vec<u32>> = (0..n)
+            .flat_map(|j| {
+                (0..n).map(move |i| vec![v(i, j), v(i + 1, j), v(i + 1, j + 1), v(i, j + 1)])
+            })
+            .collect();
+        PolyMesh::from_faces(positions, &faces)
+    }
+
+    fn dual_of(m: &PolyMesh) -> Dual {
+        let t = Topology::build(m);
+        let joinable = vec![true; t.edge_count()];
+        Dual::new(m, &t, &joinable, &Faces::new(m))
+    }
+
+    #[test]
+    fn smoothing_removes_teeth_and_notches_but_keeps_straight_borders() {
+        // 8 × 8 grid, left half region 0, right half region 1; a one-face tooth of
+        // region 0 sticks into region 1 at (4, 2), and a one-face notch of region 1
+        // cuts into region 0 at (3, 5).
+        let n = 8;
+        let m = grid(n, None);
+        let mut label: Vec<u32> = (0..n * n).map(|f| u32::from(f % n >= 4)).collect();
+        label[2 * n + 4] = 0;
+        label[5 * n + 3] = 1;
+        let mut smoothed = label.clone();
+        smooth(&dual_of(&m), &mut smoothed);
+        let straight: Vec<u32> = (0..n * n).map(|f| u32::from(f % n >= 4)).collect();
+        assert_eq!(smoothed, straight);
+    }
+
+    #[test]
+    fn smoothing_moves_seams_onto_creases_and_never_drains_a_small_region() {
+        // Folded by 90° between columns 3 and 4: a tooth of region 0 beyond the
+        // crease and a face of region 1 before it both go back, so the seam runs
+        // along the crease; no face crosses it the other way.
+        let n = 8;
+        let m = grid(n, Some(4));
+        let straight: Vec<u32> = (0..n * n).map(|f| u32::from(f % n >= 4)).collect();
+        let mut label = straight.clone();
+        label[2 * n + 4] = 0;
+        label[6 * n + 3] = 1;
+        smooth(&dual_of(&m), &mut label);
+        assert_eq!(label, straight);
+        let mut kept = straight.clone();
+        smooth(&dual_of(&m), &mut kept);
+        assert_eq!(kept, straight);
+        // A region of three faces in a row keeps them all, though each end face
+        // borders the other region more than its own.
+        let flat = grid(n, None);
+        let mut label = vec![0u32; n * n];
+        for i in 2..5 {
+            label[3 * n + i] = 1;
+        }
+        let before = label.clone();
+        smooth(&dual_of(&flat), &mut label);
+        assert_eq!(label, before);
     }
 }
