@@ -10,7 +10,7 @@ use nalgebra::Point2;
 
 use super::{
     attempt_on, grid, placements, prepare, prepare_all, raster, too_many, ChartPolygons, Layout,
-    Order, Placement, SHRINK,
+    Order, Placement, Plan, Rule, SHRINK,
 };
 use crate::error::Result;
 
@@ -52,11 +52,14 @@ pub fn place_around(
         );
         taken.occupy(&mask.dilate(layout.margin), -layout.margin, -layout.margin);
     }
-    let order = Order::Area.sorted(&prepared);
+    let plan = Plan {
+        order: Order::Area.sorted(&prepared),
+        rule: Rule::Top,
+    };
     let longest = prepared.iter().map(|p| p.rect.width).fold(0.0, f64::max);
     let mut scale = scale;
     loop {
-        if let Some(spots) = attempt_on(taken.clone(), &prepared, &order, layout, scale) {
+        if let Some(spots) = attempt_on(taken.clone(), &prepared, &plan, layout, scale) {
             return Ok(placements(&spots, prepared.len(), scale));
         }
         if !(scale * longest * k >= 1.0) {

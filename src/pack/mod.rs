@@ -3,9 +3,12 @@
 //! Input charts are UV polygons already scaled so each chart's UV area equals its 3D
 //! area. Each chart is turned so its minimum-area enclosing rectangle is axis-aligned
 //! ([`hull`]), rasterised conservatively on a grid of texels ([`raster`]) and placed
-//! bottom-left first-fit on an occupancy bitmap ([`grid`]), largest first, trying its
-//! rectangle lying and standing. The common scale is the largest one for which every
-//! chart finds a place, found by bisection. Placed charts are dilated by the padding,
+//! bottom-left first-fit on an occupancy bitmap ([`grid`]), trying eight turns. A
+//! plan fixes the order of the charts (largest rectangle, longest side or largest
+//! area first) and the rule by which a chart's turns compete (lowest top, bottom or
+//! middle). The common scale is the largest one for which every chart finds a place:
+//! the first plan finds it by bisection, every other plan is tried just above it and
+//! searched further only when it fits there. Placed charts are dilated by the padding,
 //! so any two charts, and every chart and the border, are at least `padding` texels
 //! apart (exact Euclidean distance). Everything is deterministic: same input, same
 //! bits.
@@ -190,30 +193,46 @@ pub fn pack(charts: &[ChartPolygons], resolution: u32, padding: u32) -> Result<P
                 orders.push(order);
             }
         }
-        let found: Vec<Result<(f64, Vec<Spot>)>> = orders
-            .par_iter()
-            .map(|order| search_scale(&prepared, order, layout, high))
+        let rules = if prepared.len() > MANY_CHARTS {
+            &Rule::ALL[..1]
+        } else {
+            &Rule::ALL[..]
+        };
+        let plans: Vec<Plan> = orders
+            .iter()
+            .flat_map(|order| {
+                rules.iter().map(|&rule| Plan {
+                    order: order.clone(),
+                    rule,
+                })
+            })
             .collect();
-        let mut best: Option<(f64, Vec<Spot>)> = None;
-        let mut error = None;
-        for r in found {
-            match r {
-                Ok((s, spots)) if best.as_ref().is_none_or(|(b, _)| s > *b) => {
-                    best = Some((s, spots));
-                }
-                Ok(_) => {}
-                Err(e) => error = Some(e),
+        // The first plan is searched in full; every other plan only above the scale
+        // found so far (one try just above it, and a search only when that fits), so
+        // the extra plans cost about one placement each.
+        let Some((first, rest)) = plans.split_first() else {
+            return Err(too_many(layout));
+        };
+        let mut best = search_scale(&prepared, first, layout, high)?;
+        let better: Vec<Option<(f64, Vec<Spot>)>> = rest
+            .par_iter()
+            .map(|plan| search_above(&prepared, plan, layout, best.0, high))
+            .collect();
+        // The largest scale wins; ties go to the earlier plan (deterministic).
+        for (s, spots) in better.into_iter().flatten() {
+            if s > best.0 {
+                best = (s, spots);
             }
         }
-        match (best, error) {
-            (Some(b), _) => b,
-            (None, Some(e)) => return Err(e),
-            (None, None) => return Err(too_many(layout)),
-        }
+        best
     } else {
         // Every chart is a single point: any scale gives the same layout.
         let order = Order::Area.sorted(&prepared);
-        let spots = attempt(&prepared, &order, layout, 1.0).ok_or_else(|| too_many(layout))?;
+        let plan = Plan {
+            order,
+            rule: Rule::Top,
+        };
+        let spots = attempt(&prepared, &plan, layout, 1.0).ok_or_else(|| too_many(layout))?;
         (1.0, spots)
     };
     Ok(Packing {
@@ -241,6 +260,54 @@ fn placements(spots: &[Spot], count: usize, scale: f64) -> Vec<Placement> {
         }
     }
     placements
+}
+
+/// One greedy placing strategy: the order of the charts and the rule by which each
+/// chart's turns compete.
+struct Plan {
+    order: Vec<usize>,
+    rule: Rule,
+}
+
+/// How a chart's turns compete for a place: each turn's bottom-left position is
+/// found, and the lowest by this rule wins (then the leftmost). No rule is best on
+/// every set, so each is a plan of its own and the best plan wins. Measured on Spot,
+/// its control mesh and the five demo props with `--seams auto` (1024 px, 4 px
+/// padding): the top edge alone gave mean utilization 0.633, the best of the three
+/// rules 0.649 (Spot 0.659 → 0.676, its control mesh 0.659 → 0.690).
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Rule {
+    /// Lowest top edge: keeps the layout's skyline low.
+    Top,
+    /// Lowest bottom edge: the classic bottom-left rule.
+    Bottom,
+    /// Lowest middle: between the two.
+    Middle,
+}
+
+impl Rule {
+    const ALL: [Rule; 3] = [Rule::Top, Rule::Bottom, Rule::Middle];
+
+    /// The height compared for a chart `h` cells tall placed at row `y` (in half
+    /// cells, so the middle stays an integer).
+    fn height(self, y: i32, h: i32) -> i64 {
+        let (y, h) = (i64::from(y), i64::from(h));
+        match self {
+            Rule::Top => 2 * (y + h),
+            Rule::Bottom => 2 * y,
+            Rule::Middle => 2 * y + h,
+        }
+    }
+
+    /// Highest row at which a chart `h` cells tall can still beat or tie the best
+    /// place so far, at row `best_y` for a chart `best_h` tall.
+    fn y_limit(self, best_y: i32, best_h: i32, h: i32) -> i32 {
+        match self {
+            Rule::Top => best_y + best_h - h,
+            Rule::Bottom => best_y,
+            Rule::Middle => best_y + (best_h - h).div_euclid(2),
+        }
+    }
 }
 
 /// The orders in which charts are placed; every one is tried.
@@ -399,7 +466,7 @@ fn shoelace(poly: &[Point2<f64>]) -> f64 {
 /// Largest scale ≤ `high` at which every chart finds a place, and the spots found.
 fn search_scale(
     prepared: &[Prepared],
-    order: &[usize],
+    order: &Plan,
     layout: Layout,
     high: f64,
 ) -> Result<(f64, Vec<Spot>)> {
@@ -430,13 +497,36 @@ fn search_scale(
     Ok((fitting, spots))
 }
 
-/// Places every chart at scale `scale`, in `order`; `None` when one does not fit.
-fn attempt(
+/// The largest scale in `(floor, high]` at which `plan` places every chart, found by
+/// bisection, and its spots; `None` when it does not fit just above `floor`.
+fn search_above(
     prepared: &[Prepared],
-    order: &[usize],
+    plan: &Plan,
     layout: Layout,
-    scale: f64,
-) -> Option<Vec<Spot>> {
+    floor: f64,
+    high: f64,
+) -> Option<(f64, Vec<Spot>)> {
+    let mut fitting = floor * (1.0 + SCALE_TOLERANCE);
+    if fitting > high {
+        return None;
+    }
+    let mut spots = attempt(prepared, plan, layout, fitting)?;
+    let mut failing = high;
+    while failing > fitting * (1.0 + SCALE_TOLERANCE) {
+        let mid = (fitting * failing).sqrt();
+        match attempt(prepared, plan, layout, mid) {
+            Some(s) => {
+                fitting = mid;
+                spots = s;
+            }
+            None => failing = mid,
+        }
+    }
+    Some((fitting, spots))
+}
+
+/// Places every chart at scale `scale`, in `order`; `None` when one does not fit.
+fn attempt(prepared: &[Prepared], order: &Plan, layout: Layout, scale: f64) -> Option<Vec<Spot>> {
     attempt_on(grid::Grid::new(layout.size), prepared, order, layout, scale)
 }
 
@@ -444,10 +534,11 @@ fn attempt(
 fn attempt_on(
     mut grid: grid::Grid,
     prepared: &[Prepared],
-    order: &[usize],
+    plan: &Plan,
     layout: Layout,
     scale: f64,
 ) -> Option<Vec<Spot>> {
+    let order = &plan.order;
     let turns = if prepared.len() > MANY_CHARTS {
         &TURNS[..4]
     } else {
@@ -467,11 +558,16 @@ fn attempt_on(
     for (&i, options) in order.iter().zip(&footprints) {
         let mut best: Option<(i32, i32, &Footprint)> = None;
         for f in options {
-            // Only a spot whose top edge is no higher than the best one so far can win.
-            let y_limit = best.map_or(i32::MAX, |(_, by, bf)| by + bf.mask.height - f.mask.height);
+            // Only a spot whose height (by the plan's rule) is no greater than the
+            // best one so far can win.
+            let y_limit = best.map_or(i32::MAX, |(_, by, bf)| {
+                plan.rule.y_limit(by, bf.mask.height, f.mask.height)
+            });
             if let Some((x, y)) = grid.find(&f.mask, &f.widest, layout.margin, y_limit) {
-                let better = best
-                    .is_none_or(|(bx, by, bf)| (y + f.mask.height, x) < (by + bf.mask.height, bx));
+                let better = best.is_none_or(|(bx, by, bf)| {
+                    (plan.rule.height(y, f.mask.height), x)
+                        < (plan.rule.height(by, bf.mask.height), bx)
+                });
                 if better {
                     best = Some((x, y, f));
                 }
