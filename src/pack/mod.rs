@@ -473,7 +473,7 @@ fn search_scale(
     let longest = prepared.iter().map(|p| p.rect.width).fold(0.0, f64::max);
     let mut failing = high;
     let mut scale = high * SHRINK;
-    let (mut fitting, mut spots) = loop {
+    let fit = loop {
         if let Some(spots) = attempt(prepared, order, layout, scale) {
             break (scale, spots);
         }
@@ -484,9 +484,21 @@ fn search_scale(
         failing = scale;
         scale *= SHRINK;
     };
+    Ok(bisect(prepared, order, layout, fit, failing))
+}
+
+/// Narrows a fitting scale (with its spots) and a failing one down to
+/// [`SCALE_TOLERANCE`]; returns the largest fitting scale found and its spots.
+fn bisect(
+    prepared: &[Prepared],
+    plan: &Plan,
+    layout: Layout,
+    (mut fitting, mut spots): (f64, Vec<Spot>),
+    mut failing: f64,
+) -> (f64, Vec<Spot>) {
     while failing > fitting * (1.0 + SCALE_TOLERANCE) {
         let mid = (fitting * failing).sqrt();
-        match attempt(prepared, order, layout, mid) {
+        match attempt(prepared, plan, layout, mid) {
             Some(s) => {
                 fitting = mid;
                 spots = s;
@@ -494,7 +506,7 @@ fn search_scale(
             None => failing = mid,
         }
     }
-    Ok((fitting, spots))
+    (fitting, spots)
 }
 
 /// The largest scale in `(floor, high]` at which `plan` places every chart, found by
@@ -506,23 +518,12 @@ fn search_above(
     floor: f64,
     high: f64,
 ) -> Option<(f64, Vec<Spot>)> {
-    let mut fitting = floor * (1.0 + SCALE_TOLERANCE);
-    if fitting > high {
+    let scale = floor * (1.0 + SCALE_TOLERANCE);
+    if scale > high {
         return None;
     }
-    let mut spots = attempt(prepared, plan, layout, fitting)?;
-    let mut failing = high;
-    while failing > fitting * (1.0 + SCALE_TOLERANCE) {
-        let mid = (fitting * failing).sqrt();
-        match attempt(prepared, plan, layout, mid) {
-            Some(s) => {
-                fitting = mid;
-                spots = s;
-            }
-            None => failing = mid,
-        }
-    }
-    Some((fitting, spots))
+    let spots = attempt(prepared, plan, layout, scale)?;
+    Some(bisect(prepared, plan, layout, (scale, spots), high))
 }
 
 /// Places every chart at scale `scale`, in `order`; `None` when one does not fit.
