@@ -15,7 +15,9 @@
 mod common;
 
 use nalgebra::Point3;
-use polyflat::flatten::{auto_solver, solve_chart, ChartSolution, SolveOptions, Start};
+use polyflat::flatten::{
+    auto_solver, solve_chart, ChartSolution, Ordering, SolveOptions, Start,
+};
 use polyflat::progress::Silent;
 use polyflat::settings::{EnergyKind, SolverKind};
 use polyflat::PolyMesh;
@@ -46,9 +48,20 @@ fn distortion(mesh: &PolyMesh, s: &ChartSolution) -> (f64, f64) {
 /// Solves `mesh` from `start`: sections 1–3 start as the pipeline does (least-squares
 /// conformal, Tutte when that folds), section 4 from Tutte as its question asks.
 fn run(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind, start: Start) -> ChartSolution {
+    run_ordered(mesh, energy, solver, start, Ordering::default())
+}
+
+fn run_ordered(
+    mesh: &PolyMesh,
+    energy: EnergyKind,
+    solver: SolverKind,
+    start: Start,
+    ordering: Ordering,
+) -> ChartSolution {
     let opts = SolveOptions {
         energy,
         solver,
+        ordering,
         ..SolveOptions::default()
     };
     match solve_chart(mesh, &opts, start, &Silent) {
@@ -98,9 +111,46 @@ fn newton_ratios(s: &ChartSolution) -> (f64, f64) {
     )
 }
 
+/// Section 0: each fill-reducing ordering on quad disks and their triangulations
+/// (arap, Newton from the conformal start).
+fn orderings() {
+    println!("\n## 0. Fill-reducing orderings of the Newton system (arap, Newton)\n");
+    println!("| mesh | faces | ordering | analysis s | factor entries (M) | one factorization s | Newton total s | L2 stretch |");
+    println!("|---|---|---|---|---|---|---|---|");
+    for n in [100, 316] {
+        let quads = bump_disk(n);
+        let tris = common::triangulated(&quads);
+        for (case, mesh) in [("quads", &quads), ("triangles", &tris)] {
+            for ordering in [Ordering::ScalarAmd, Ordering::VertexAmd, Ordering::Dissection] {
+                let s = run_ordered(
+                    mesh,
+                    EnergyKind::Arap,
+                    SolverKind::Newton,
+                    Start::Conformal,
+                    ordering,
+                );
+                let t = &s.timings;
+                println!(
+                    "| {n}×{n} {case} | {} | {ordering:?} | {:.3} | {:.2} | {:.3} | {:.3} | {:.5} |",
+                    mesh.face_count(),
+                    t.analyse_ms / 1e3,
+                    t.factor_entries as f64 / 1e6,
+                    t.factor_ms / t.factorizations.max(1) as f64 / 1e3,
+                    t.total_ms / 1e3,
+                    distortion(mesh, &s).0,
+                );
+            }
+        }
+    }
+}
+
 fn main() {
     let large = std::env::args().any(|a| a == "--large");
     println!("threads: {}", rayon::current_num_threads());
+    orderings();
+    if std::env::args().any(|a| a == "--orderings") {
+        return;
+    }
 
     println!("\n## 1. Quads vs the same surface triangulated\n");
     header();

@@ -19,6 +19,7 @@ fn options(energy: EnergyKind, solver: SolverKind) -> SolveOptions {
         max_iterations: 500,
         tolerance: 1e-12,
         chart_id: 7,
+        ..SolveOptions::default()
     }
 }
 

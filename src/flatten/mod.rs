@@ -26,6 +26,7 @@ mod lbfgs;
 mod local_global;
 mod newton;
 mod objective;
+mod ordering;
 mod stopping;
 
 use crate::error::{Error, Result};
@@ -35,6 +36,7 @@ use crate::settings::{EnergyKind, Settings, SolverKind};
 use chart::Chart;
 use nalgebra::Point2;
 use objective::Objective;
+pub use ordering::Ordering;
 use serde::Serialize;
 use std::time::Instant;
 use stopping::{Outcome, StopRules};
@@ -56,6 +58,9 @@ pub struct SolveOptions {
     pub tolerance: f64,
     /// Chart id used in error messages.
     pub chart_id: usize,
+    /// Fill-reducing ordering of the Newton system's factorization (the default is
+    /// the fastest measured by `examples/bench_flatten.rs`).
+    pub ordering: Ordering,
 }
 
 impl SolveOptions {
@@ -68,6 +73,7 @@ impl SolveOptions {
             max_iterations: settings.max_iterations,
             tolerance: settings.tolerance,
             chart_id,
+            ordering: Ordering::default(),
         }
     }
 }
@@ -106,6 +112,10 @@ pub enum StartKind {
 pub struct StageTimings {
     /// Checks, per-face precomputation, sparse pattern and symbolic analysis.
     pub setup_ms: f64,
+    /// Of `setup_ms`: the Newton system's symbolic analysis (ordering included).
+    pub analyse_ms: f64,
+    /// Stored entries of the Newton system's Cholesky factor (0 for other solvers).
+    pub factor_entries: usize,
     /// Computing the starting layout.
     pub start_ms: f64,
     /// Per-face energy, gradient and Hessian evaluation.
@@ -198,7 +208,7 @@ pub fn solve_chart(
     let (mut uv, mut start_kind) = match start {
         Start::Tutte => (initial::tutte(&prepared).map_err(fail)?, StartKind::Tutte),
         Start::Conformal => (
-            initial::least_squares_conformal(&prepared).map_err(fail)?,
+            initial::least_squares_conformal(&prepared, opts.ordering).map_err(fail)?,
             StartKind::Conformal,
         ),
         Start::Given(given) => (given_start(chart, given).map_err(fail)?, StartKind::Given),
@@ -430,8 +440,10 @@ fn run_solver(
     let outcome = match solver {
         SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, progress),
         SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
-        _ => newton::Newton::new(objective, pins, shift).and_then(|mut n| {
+        _ => newton::Newton::new(objective, pins, shift, opts.ordering).and_then(|mut n| {
             timings.setup_ms += ms(setup_clock.elapsed());
+            timings.analyse_ms += ms(n.analysis_time());
+            timings.factor_entries = n.factor_entries();
             n.run(uv, &stop, progress)
         }),
     };

@@ -8,8 +8,9 @@
 //! null space (rotation) gets a small diagonal shift, raised when a factorization
 //! fails.
 
-use super::assembly::{Dofs, NewtonSystem};
+use super::assembly::{Dofs, NewtonSystem, PINNED};
 use super::cholesky::Cholesky;
+use super::ordering::Ordering;
 use super::objective::{hessian_offsets, Objective};
 use super::stopping::{timed, Clocks, Outcome, StopRules};
 use crate::progress::Progress;
@@ -35,29 +36,54 @@ pub(crate) struct Newton<'o, 'c, 'm> {
     cholesky: Cholesky,
     hess_offsets: Vec<usize>,
     shift: bool,
+    analysis: std::time::Duration,
 }
 
 impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
     /// Prepares Newton's method on `objective` with the vertices `pins` held fixed.
     /// `shift` adds the small diagonal shift from the first factorization (needed
-    /// when a rotation null space is left).
+    /// when a rotation null space is left); `ordering` is the symbolic analysis's
+    /// fill-reducing ordering.
     pub fn new(
         objective: &'o Objective<'c, 'm>,
         pins: &[u32],
         shift: bool,
+        ordering: Ordering,
     ) -> Result<Self, String> {
         let chart = objective.chart;
         let hess_offsets = hessian_offsets(chart);
         let dofs = Dofs::new(chart.vertex_count(), pins);
         let system = NewtonSystem::new(chart, dofs, &hess_offsets)?;
-        let cholesky = Cholesky::analyse(system.n, &system.col_ptr, &system.row_idx)?;
+        let points: Vec<[f64; 3]> = system
+            .dofs
+            .index
+            .iter()
+            .zip(&chart.mesh.positions)
+            .filter(|(k, _)| **k != PINNED)
+            .map(|(_, p)| [p.x, p.y, p.z])
+            .collect();
+        let clock = std::time::Instant::now();
+        let cholesky =
+            Cholesky::analyse_blocks(&system.col_ptr, &system.row_idx, ordering, &points)?;
+        let analysis = clock.elapsed();
         Ok(Newton {
             objective,
             system,
             cholesky,
             hess_offsets,
             shift,
+            analysis,
         })
+    }
+
+    /// Stored entries of the factor of the Newton matrix.
+    pub fn factor_entries(&self) -> usize {
+        self.cholesky.factor_entries()
+    }
+
+    /// Time taken by the symbolic analysis (ordering included).
+    pub fn analysis_time(&self) -> std::time::Duration {
+        self.analysis
     }
 
     /// Minimises from `uv` (per-vertex UVs, updated in place) until a stop rule holds.
