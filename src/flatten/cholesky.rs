@@ -8,10 +8,11 @@
 
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::llt::factor::LltRegularization;
-use super::ordering::{dissection, expand_blocks, vertex_amd, vertex_graph, Ordering};
+use super::ordering::{dissection, expand_blocks, metis, vertex_amd, vertex_graph, Ordering};
 use faer::perm::PermRef;
 use faer::sparse::linalg::cholesky::{
-    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymmetricOrdering,
+    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymbolicCholeskyRaw,
+    SymmetricOrdering,
 };
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{Conj, MatMut, Par, Side};
@@ -47,7 +48,8 @@ impl Cholesky {
         }
         let (xadj, adjncy) = vertex_graph(points.len(), col_ptr, row_idx);
         let order = match ordering {
-            Ordering::Dissection => dissection(points, &xadj, &adjncy),
+            Ordering::Dissection => dissection(points, &xadj, &adjncy)?,
+            Ordering::Metis => metis(&xadj, &adjncy)?,
             _ => vertex_amd(&xadj, &adjncy)?,
         };
         drop((xadj, adjncy));
@@ -85,6 +87,26 @@ impl Cholesky {
     /// Stored entries of the factor `L`.
     pub fn factor_entries(&self) -> usize {
         self.symbolic.len_val()
+    }
+
+    /// Multiply-adds of one numeric factorization, `Σ_j c_j²` over the factor's
+    /// columns of `c_j` stored entries (supernodes counted with their padding): a
+    /// measure of its cost that does not depend on the machine's load.
+    pub fn flops(&self) -> f64 {
+        match self.symbolic.raw() {
+            SymbolicCholeskyRaw::Simplicial(s) => s
+                .col_ptr()
+                .windows(2)
+                .map(|w| ((w[1] - w[0]) as f64).powi(2))
+                .sum(),
+            SymbolicCholeskyRaw::Supernodal(s) => (0..s.n_supernodes())
+                .map(|k| {
+                    let width = s.supernode_end()[k] - s.supernode_begin()[k];
+                    let below = s.supernode(k).pattern().len();
+                    (1..=width).map(|c| ((c + below) as f64).powi(2)).sum::<f64>()
+                })
+                .sum(),
+        }
     }
 
     /// Numeric factorization of the matrix with the analysed pattern and `values`;

@@ -451,6 +451,52 @@ fn run_solver(
     outcome
 }
 
+/// One numeric factorization of a chart's Newton matrix, as measured by
+/// [`factorization_benchmark`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FactorizationFigures {
+    /// Symbolic analysis (ordering included), milliseconds.
+    pub analyse_ms: f64,
+    /// Stored entries of the factor.
+    pub factor_entries: usize,
+    /// Multiply-adds of one numeric factorization (`Σ_j c_j²`, `c_j` the stored
+    /// entries of column `j`).
+    pub factor_flops: f64,
+    /// The shortest of the timed numeric factorizations, milliseconds.
+    pub factor_ms: f64,
+}
+
+/// For benchmarks: analyses the Newton system of `opts.energy` on `chart` (one pin)
+/// with `opts.ordering`, assembles its Hessian at the least-squares conformal map and
+/// times `repeats` numeric factorizations of it.
+///
+/// Errors as [`solve_chart`], and when the Hessian is not positive definite.
+pub fn factorization_benchmark(
+    chart: &PolyMesh,
+    opts: &SolveOptions,
+    repeats: usize,
+) -> Result<FactorizationFigures> {
+    let fail = |message: String| Error::Solve {
+        chart: opts.chart_id,
+        message,
+    };
+    let prepared = Chart::new(chart, opts.projection_weight).map_err(fail)?;
+    let objective = Objective::new(&prepared, energy::energy(opts.energy));
+    let mut uv = initial::least_squares_conformal(&prepared, opts.ordering).map_err(fail)?;
+    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    let pins = [prepared.loops[0][0]];
+    let mut newton = newton::Newton::new(&objective, &pins, true, opts.ordering).map_err(fail)?;
+    let factor = newton
+        .time_factorization(&uv, repeats)
+        .ok_or_else(|| fail("the Newton matrix is not positive definite".into()))?;
+    Ok(FactorizationFigures {
+        analyse_ms: ms(newton.analysis_time()),
+        factor_entries: newton.factor_entries(),
+        factor_flops: newton.factor_flops(),
+        factor_ms: ms(factor),
+    })
+}
+
 /// What a solver run left besides the UVs.
 struct Run {
     outcome: Outcome,

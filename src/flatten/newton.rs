@@ -81,9 +81,50 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         self.cholesky.factor_entries()
     }
 
+    /// Multiply-adds of one numeric factorization of the Newton matrix.
+    pub fn factor_flops(&self) -> f64 {
+        self.cholesky.flops()
+    }
+
     /// Time taken by the symbolic analysis (ordering included).
     pub fn analysis_time(&self) -> std::time::Duration {
         self.analysis
+    }
+
+    /// Assembles the Hessian at `uv` (shifted as the first step would be) and
+    /// factors it `repeats` times: the shortest numeric factorization, or `None` when
+    /// the matrix is not positive definite.
+    pub fn time_factorization(
+        &mut self,
+        uv: &[[f64; 2]],
+        repeats: usize,
+    ) -> Option<std::time::Duration> {
+        let chart = self.objective.chart;
+        let mut grad_buf = vec![0.0; 2 * chart.mesh.corner_count()];
+        let mut hess_buf = vec![0.0; self.hess_offsets[chart.face_count()]];
+        let mut values = vec![0.0; self.system.row_idx.len()];
+        self.objective
+            .evaluate(uv, &mut grad_buf, Some((&mut hess_buf, &self.hess_offsets)));
+        self.system.assemble_hessian(&hess_buf, &mut values);
+        let diagonal = &self.system.diagonal;
+        let mean =
+            diagonal.iter().map(|&p| values[p].abs()).sum::<f64>() / diagonal.len().max(1) as f64;
+        if self.shift {
+            for &p in diagonal {
+                values[p] += SHIFT * mean;
+            }
+        }
+        let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
+        (0..repeats.max(1))
+            .map(|_| {
+                let clock = std::time::Instant::now();
+                self.cholesky
+                    .factor(col_ptr, row_idx, &values)
+                    .then(|| clock.elapsed())
+            })
+            .collect::<Option<Vec<_>>>()?
+            .into_iter()
+            .min()
     }
 
     /// Minimises from `uv` (per-vertex UVs, updated in place) until a stop rule holds.

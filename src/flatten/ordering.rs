@@ -29,10 +29,12 @@ pub enum Ordering {
     /// Geometric nested dissection of the vertex graph, expanded to 2×2 blocks.
     #[default]
     Dissection,
+    /// METIS nested dissection of the vertex graph, expanded to 2×2 blocks.
+    Metis,
 }
 
-/// Parts with at most this many vertices are not split further (their own order is
-/// kept); our choice, small enough that leaf fill is negligible.
+/// Parts with at most this many vertices are not split further but ordered by
+/// approximate minimum degree.
 const LEAF: usize = 64;
 
 /// The vertex graph (both directions, no self loops) of a 2×2-block lower CSC
@@ -71,7 +73,8 @@ pub(crate) fn vertex_graph(
     (xadj, adjncy)
 }
 
-/// Approximate minimum degree order of the vertex graph: `order[new] = old`.
+/// Approximate minimum degree order of a graph (no self loops, sorted adjacency
+/// lists): `order[new] = old`.
 pub(crate) fn vertex_amd(xadj: &[usize], adjncy: &[u32]) -> Result<Vec<usize>, String> {
     let n = xadj.len() - 1;
     let row_idx: Vec<usize> = adjncy.iter().map(|&a| a as usize).collect();
@@ -93,8 +96,14 @@ pub(crate) fn vertex_amd(xadj: &[usize], adjncy: &[u32]) -> Result<Vec<usize>, S
 
 /// Geometric nested dissection order of the vertex graph with vertex positions
 /// `points`: `order[new] = old`.
-pub(crate) fn dissection(points: &[[f64; 3]], xadj: &[usize], adjncy: &[u32]) -> Vec<usize> {
+pub(crate) fn dissection(
+    points: &[[f64; 3]],
+    xadj: &[usize],
+    adjncy: &[u32],
+) -> Result<Vec<usize>, String> {
     let n = points.len();
+    let leaf: usize = std::env::var("POLYFLAT_LEAF").ok().and_then(|s| s.parse().ok()).unwrap_or(LEAF);
+    let mut local = vec![u32::MAX; n];
     let mut ids: Vec<u32> = (0..n as u32).collect();
     let mut side = vec![0u32; n];
     let mut order = Vec::with_capacity(n);
@@ -115,8 +124,8 @@ pub(crate) fn dissection(points: &[[f64; 3]], xadj: &[usize], adjncy: &[u32]) ->
             Task::Split(lo, hi) => (lo, hi),
         };
         let part = &mut ids[lo..hi];
-        if part.len() <= LEAF {
-            order.extend(part.iter().map(|&v| v as usize));
+        if part.len() <= leaf {
+            order_leaf(part, xadj, adjncy, &mut local, &mut order)?;
             continue;
         }
         let axis = widest_axis(points, part);
@@ -159,7 +168,66 @@ pub(crate) fn dissection(points: &[[f64; 3]], xadj: &[usize], adjncy: &[u32]) ->
             tasks.push(Task::Split(lo, lo + mid));
         }
     }
-    order
+    Ok(order)
+}
+
+/// Appends the vertices of `part` to `order` in the approximate minimum degree order
+/// of the subgraph they induce; `local` is all `u32::MAX` on entry and on return.
+fn order_leaf(
+    part: &[u32],
+    xadj: &[usize],
+    adjncy: &[u32],
+    local: &mut [u32],
+    order: &mut Vec<usize>,
+) -> Result<(), String> {
+    for (i, &v) in part.iter().enumerate() {
+        local[v as usize] = i as u32;
+    }
+    let mut sub_xadj = Vec::with_capacity(part.len() + 1);
+    let mut sub_adjncy = Vec::new();
+    sub_xadj.push(0);
+    for &v in part {
+        let start = sub_adjncy.len();
+        for &w in &adjncy[xadj[v as usize]..xadj[v as usize + 1]] {
+            if local[w as usize] != u32::MAX {
+                sub_adjncy.push(local[w as usize]);
+            }
+        }
+        sub_adjncy[start..].sort_unstable();
+        sub_xadj.push(sub_adjncy.len());
+    }
+    let sub_order = vertex_amd(&sub_xadj, &sub_adjncy)?;
+    order.extend(sub_order.iter().map(|&i| part[i] as usize));
+    for &v in part {
+        local[v as usize] = u32::MAX;
+    }
+    Ok(())
+}
+
+/// METIS_NodeND order of the vertex graph: `order[new] = old`.
+pub(crate) fn metis(xadj: &[usize], adjncy: &[u32]) -> Result<Vec<usize>, String> {
+    let n = xadj.len() - 1;
+    let mut nv = n as i32;
+    let mut x: Vec<i32> = xadj.iter().map(|&a| a as i32).collect();
+    let mut a: Vec<i32> = adjncy.iter().map(|&a| a as i32).collect();
+    let mut perm = vec![0i32; n];
+    let mut iperm = vec![0i32; n];
+    // SAFETY: the arrays have the lengths METIS_NodeND reads and writes.
+    let status = unsafe {
+        metis_sys::METIS_NodeND(
+            &mut nv,
+            x.as_mut_ptr(),
+            a.as_mut_ptr(),
+            std::ptr::null_mut(),
+            std::ptr::null_mut(),
+            perm.as_mut_ptr(),
+            iperm.as_mut_ptr(),
+        )
+    };
+    if status != metis_sys::rstatus_et_METIS_OK {
+        return Err(format!("the ordering failed (METIS status {status})"));
+    }
+    Ok(perm.iter().map(|&p| p as usize).collect())
 }
 
 /// The coordinate (0, 1, 2) along which `part`'s bounding box is widest.
@@ -227,7 +295,7 @@ mod tests {
     #[test]
     fn dissection_is_a_permutation_with_the_first_separator_last() {
         let (points, xadj, adjncy) = grid(40, 20);
-        let order = dissection(&points, &xadj, &adjncy);
+        let order = dissection(&points, &xadj, &adjncy).expect("ordering");
         let mut seen = order.clone();
         seen.sort_unstable();
         assert_eq!(seen, (0..800).collect::<Vec<_>>());
