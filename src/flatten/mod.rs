@@ -134,6 +134,38 @@ pub struct StageTimings {
     pub total_ms: f64,
 }
 
+/// A stage of a solve, for [`ChartSolution::spans`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stage {
+    /// Checks and per-face precomputation.
+    Setup,
+    /// The starting layout (its own linear solve included).
+    Start,
+    /// The Newton system's pattern and symbolic analysis.
+    Analysis,
+    /// Per-face energy, gradient and Hessian evaluation.
+    Evaluate,
+    /// Gathering per-face terms into the global gradient and matrix.
+    Assemble,
+    /// One numeric factorization.
+    Factor,
+    /// Triangular solves.
+    Solve,
+    /// One line search.
+    LineSearch,
+}
+
+/// When one stage ran, in milliseconds since the solve began.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StageSpan {
+    /// Which stage.
+    pub stage: Stage,
+    /// Start, milliseconds since the call began.
+    pub start_ms: f64,
+    /// End, milliseconds since the call began.
+    pub end_ms: f64,
+}
+
 /// The solved layout of one chart.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ChartSolution {
@@ -153,6 +185,9 @@ pub struct ChartSolution {
     pub flipped_faces: usize,
     /// Time per stage.
     pub timings: StageTimings,
+    /// When each stage ran: set-up, start, and for Newton its analysis and every
+    /// evaluation, assembly, factorization, solve and line search.
+    pub spans: Vec<StageSpan>,
     /// Sentences about fallbacks taken (e.g. a rejected warm start).
     pub notes: Vec<String>,
 }
@@ -205,6 +240,7 @@ pub fn solve_chart(
     };
 
     let start_clock = Instant::now();
+    let mut spans = vec![(Stage::Setup, began, start_clock)];
     let (mut uv, mut start_kind) = match start {
         Start::Tutte => (initial::tutte(&prepared).map_err(fail)?, StartKind::Tutte),
         Start::Conformal => (
@@ -241,6 +277,7 @@ pub fn solve_chart(
         }
     }
     timings.start_ms = ms(start_clock.elapsed());
+    spans.push((Stage::Start, start_clock, Instant::now()));
 
     let mut solver = match opts.solver {
         SolverKind::Auto => auto_solver(opts.energy),
@@ -279,6 +316,7 @@ pub fn solve_chart(
         notes,
         timings,
         began,
+        spans,
     };
     Ok(solution(&objective, uv, run))
 }
@@ -328,8 +366,9 @@ pub fn solve_chart_held(
             )));
         }
     }
+    let setup_end = Instant::now();
     let mut timings = StageTimings {
-        setup_ms: ms(began.elapsed()),
+        setup_ms: ms(setup_end - began),
         ..StageTimings::default()
     };
     let mut notes = Vec::new();
@@ -372,6 +411,7 @@ pub fn solve_chart_held(
         notes,
         timings,
         began,
+        spans: vec![(Stage::Setup, began, setup_end)],
     };
     Ok(solution(&objective, uv, run))
 }
@@ -442,9 +482,15 @@ fn run_solver(
         SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
         _ => newton::Newton::new(objective, pins, shift, opts.ordering).and_then(|mut n| {
             timings.setup_ms += ms(setup_clock.elapsed());
-            timings.analyse_ms += ms(n.analysis_time());
+            let (analysis_began, analysis_ended) = n.analysis_span();
+            timings.analyse_ms += ms(analysis_ended - analysis_began);
             timings.factor_entries = n.factor_entries();
-            n.run(uv, &stop, progress)
+            n.run(uv, &stop, progress).map(|mut o| {
+                o.clocks
+                    .spans
+                    .push((Stage::Analysis, setup_clock, analysis_ended));
+                o
+            })
         }),
     };
     progress.end();
@@ -489,8 +535,9 @@ pub fn factorization_benchmark(
     let factor = newton
         .time_factorization(&uv, repeats)
         .ok_or_else(|| fail("the Newton matrix is not positive definite".into()))?;
+    let (analysis_began, analysis_ended) = newton.analysis_span();
     Ok(FactorizationFigures {
-        analyse_ms: ms(newton.analysis_time()),
+        analyse_ms: ms(analysis_ended - analysis_began),
         factor_entries: newton.factor_entries(),
         factor_flops: newton.factor_flops(),
         factor_ms: ms(factor),
@@ -505,6 +552,8 @@ struct Run {
     notes: Vec<String>,
     timings: StageTimings,
     began: Instant,
+    /// Set-up and start spans (the solver adds its own).
+    spans: Vec<(Stage, Instant, Instant)>,
 }
 
 /// The [`ChartSolution`] of a finished run.
@@ -516,11 +565,14 @@ fn solution(objective: &Objective, uv: Vec<[f64; 2]>, run: Run) -> ChartSolution
         notes,
         mut timings,
         began,
+        mut spans,
     } = run;
     let flipped_faces = objective.flipped_faces(&uv);
     // The solvers work above the energy's floor Σ_f A_f min ψ; report E itself.
     let floor = objective.chart.area * objective.energy.minimum();
     let c = outcome.clocks;
+    spans.extend(c.spans);
+    spans.sort_by_key(|s| s.1);
     timings.evaluate_ms = ms(c.evaluate);
     timings.assemble_ms = ms(c.assemble);
     timings.setup_ms += ms(c.setup);
@@ -542,6 +594,14 @@ fn solution(objective: &Objective, uv: Vec<[f64; 2]>, run: Run) -> ChartSolution
         start,
         flipped_faces,
         timings,
+        spans: spans
+            .iter()
+            .map(|&(stage, a, b)| StageSpan {
+                stage,
+                start_ms: ms(a.duration_since(began)),
+                end_ms: ms(b.duration_since(began)),
+            })
+            .collect(),
         notes,
     }
 }

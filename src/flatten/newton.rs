@@ -12,8 +12,10 @@ use super::assembly::{Dofs, NewtonSystem, PINNED};
 use super::cholesky::Cholesky;
 use super::ordering::Ordering;
 use super::objective::{hessian_offsets, Objective};
-use super::stopping::{timed, Clocks, Outcome, StopRules};
+use super::stopping::{Clocks, Outcome, StopRules};
+use super::Stage;
 use crate::progress::Progress;
+use std::time::{Duration, Instant};
 
 /// Armijo sufficient-decrease constant (common practice, no published source).
 const ARMIJO: f64 = 1e-4;
@@ -36,7 +38,8 @@ pub(crate) struct Newton<'o, 'c, 'm> {
     cholesky: Cholesky,
     hess_offsets: Vec<usize>,
     shift: bool,
-    analysis: std::time::Duration,
+    /// When the symbolic analysis began and ended.
+    analysis: (Instant, Instant),
 }
 
 impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
@@ -62,10 +65,10 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             .filter(|(k, _)| **k != PINNED)
             .map(|(_, p)| [p.x, p.y, p.z])
             .collect();
-        let clock = std::time::Instant::now();
+        let clock = Instant::now();
         let cholesky =
             Cholesky::analyse_blocks(&system.col_ptr, &system.row_idx, ordering, &points)?;
-        let analysis = clock.elapsed();
+        let analysis = (clock, Instant::now());
         Ok(Newton {
             objective,
             system,
@@ -86,8 +89,8 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         self.cholesky.flops()
     }
 
-    /// Time taken by the symbolic analysis (ordering included).
-    pub fn analysis_time(&self) -> std::time::Duration {
+    /// When the symbolic analysis (ordering included) began and ended.
+    pub fn analysis_span(&self) -> (Instant, Instant) {
         self.analysis
     }
 
@@ -98,7 +101,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         &mut self,
         uv: &[[f64; 2]],
         repeats: usize,
-    ) -> Option<std::time::Duration> {
+    ) -> Option<Duration> {
         let chart = self.objective.chart;
         let mut grad_buf = vec![0.0; 2 * chart.mesh.corner_count()];
         let mut hess_buf = vec![0.0; self.hess_offsets[chart.face_count()]];
@@ -117,7 +120,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
         (0..repeats.max(1))
             .map(|_| {
-                let clock = std::time::Instant::now();
+                let clock = Instant::now();
                 self.cholesky
                     .factor(col_ptr, row_idx, &values)
                     .then(|| clock.elapsed())
@@ -145,7 +148,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         let mut duv = vec![[0.0; 2]; uv.len()];
         let mut trial = uv.to_vec();
         while out.iterations < stop.max_iterations {
-            let e = timed(&mut out.clocks.evaluate, || {
+            let e = out.clocks.time(Stage::Evaluate, || {
                 self.objective.evaluate(
                     uv,
                     &mut grad_buf,
@@ -161,7 +164,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             if out.history.is_empty() {
                 out.record(e);
             }
-            timed(&mut out.clocks.assemble, || {
+            out.clocks.time(Stage::Assemble, || {
                 self.system.gradient.apply(&grad_buf, &mut grad);
                 self.system.assemble_hessian(&hess_buf, &mut values);
             });
@@ -178,7 +181,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
                 }
                 slope = -grad.iter().map(|g| g * g).sum::<f64>();
             }
-            let accepted = timed(&mut out.clocks.line_search, || {
+            let accepted = out.clocks.time(Stage::LineSearch, || {
                 duv.iter_mut().for_each(|d| *d = [0.0; 2]);
                 self.system.dofs.scatter(&step, &mut duv);
                 let mut t: f64 = 1.0;
@@ -234,13 +237,13 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             applied = shift;
             clocks.factorizations += 1;
             let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
-            if timed(&mut clocks.factor, || {
+            if clocks.time(Stage::Factor, || {
                 self.cholesky.factor(col_ptr, row_idx, values)
             }) {
                 for (s, g) in step.iter_mut().zip(grad) {
                     *s = -g;
                 }
-                timed(&mut clocks.solve, || self.cholesky.solve(step));
+                clocks.time(Stage::Solve, || self.cholesky.solve(step));
                 return Ok(());
             }
             shift = if shift > 0.0 {

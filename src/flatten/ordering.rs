@@ -13,7 +13,15 @@
 //!   1979, "Generalized nested dissection", SIAM J. Numer. Anal. 16(2)): the vertices
 //!   are split at the median of the wider coordinate of their 3D positions, the
 //!   vertices of the smaller side that touch the other side form the separator, which
-//!   is numbered after both halves; halves are split again down to [`LEAF`] vertices.
+//!   is numbered after both halves; halves are split again down to [`LEAF`] vertices,
+//!   which are ordered by approximate minimum degree.
+//! - [`Ordering::Metis`]: METIS nested dissection (Karypis & Kumar 1998, "A fast and
+//!   high quality multilevel scheme for partitioning irregular graphs", SIAM J. Sci.
+//!   Comput. 20(1)) of the vertex graph, with the cargo feature `metis`.
+//!
+//! Measured in `examples/bench_flatten.rs` (README, Performance): both AMD variants
+//! give the same factor (faer's AMD merges the indistinguishable `u`, `v` pair), the
+//! vertex graph's in half the analysis time, hence the default.
 
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::sparse::linalg::amd;
@@ -25,11 +33,12 @@ pub enum Ordering {
     /// Approximate minimum degree on the scalar pattern (faer's default).
     ScalarAmd,
     /// Approximate minimum degree on the vertex graph, expanded to 2×2 blocks.
+    #[default]
     VertexAmd,
     /// Geometric nested dissection of the vertex graph, expanded to 2×2 blocks.
-    #[default]
     Dissection,
-    /// METIS nested dissection of the vertex graph, expanded to 2×2 blocks.
+    /// METIS nested dissection (Karypis & Kumar 1998) of the vertex graph, expanded to
+    /// 2×2 blocks; needs the cargo feature `metis`.
     Metis,
 }
 
@@ -102,7 +111,6 @@ pub(crate) fn dissection(
     adjncy: &[u32],
 ) -> Result<Vec<usize>, String> {
     let n = points.len();
-    let leaf: usize = std::env::var("POLYFLAT_LEAF").ok().and_then(|s| s.parse().ok()).unwrap_or(LEAF);
     let mut local = vec![u32::MAX; n];
     let mut ids: Vec<u32> = (0..n as u32).collect();
     let mut side = vec![0u32; n];
@@ -124,7 +132,7 @@ pub(crate) fn dissection(
             Task::Split(lo, hi) => (lo, hi),
         };
         let part = &mut ids[lo..hi];
-        if part.len() <= leaf {
+        if part.len() <= LEAF {
             order_leaf(part, xadj, adjncy, &mut local, &mut order)?;
             continue;
         }
@@ -205,6 +213,7 @@ fn order_leaf(
 }
 
 /// METIS_NodeND order of the vertex graph: `order[new] = old`.
+#[cfg(feature = "metis")]
 pub(crate) fn metis(xadj: &[usize], adjncy: &[u32]) -> Result<Vec<usize>, String> {
     let n = xadj.len() - 1;
     let mut nv = n as i32;
@@ -228,6 +237,12 @@ pub(crate) fn metis(xadj: &[usize], adjncy: &[u32]) -> Result<Vec<usize>, String
         return Err(format!("the ordering failed (METIS status {status})"));
     }
     Ok(perm.iter().map(|&p| p as usize).collect())
+}
+
+/// Without the `metis` feature: an error saying so.
+#[cfg(not(feature = "metis"))]
+pub(crate) fn metis(_xadj: &[usize], _adjncy: &[u32]) -> Result<Vec<usize>, String> {
+    Err("this build has no METIS ordering (cargo feature `metis`)".into())
 }
 
 /// The coordinate (0, 1, 2) along which `part`'s bounding box is widest.
