@@ -21,17 +21,16 @@
 mod common;
 
 use nalgebra::Point3;
-use polyflat::flatten::{
-    auto_solver, factorization_benchmark, solve_chart, ChartSolution, Ordering, SolveOptions,
-    Start,
-};
 use polyflat::flatten::Stage;
+use polyflat::flatten::{
+    auto_solver, factorization_benchmark, solve_chart, ChartSolution, Ordering, SolveOptions, Start,
+};
 use polyflat::progress::Silent;
+use polyflat::settings::{EnergyKind, SolverKind};
+use polyflat::PolyMesh;
 use std::sync::atomic::{AtomicBool, Ordering as AtomicOrdering};
 use std::sync::Arc;
 use std::time::{Duration, Instant};
-use polyflat::settings::{EnergyKind, SolverKind};
-use polyflat::PolyMesh;
 
 /// `n × n` quads on the unit square lifted onto a smooth bump (not developable).
 fn bump_disk(n: usize) -> PolyMesh {

@@ -6,13 +6,12 @@
 //! Newton system, whose unknowns come in 2×2 vertex blocks, takes an [`Ordering`] of its
 //! vertex graph (see [`super::ordering`]).
 
+use super::ordering::{dissection, expand_blocks, metis, vertex_amd, vertex_graph, Ordering};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::llt::factor::LltRegularization;
-use super::ordering::{dissection, expand_blocks, metis, vertex_amd, vertex_graph, Ordering};
 use faer::perm::PermRef;
 use faer::sparse::linalg::cholesky::{
-    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymbolicCholeskyRaw,
-    SymmetricOrdering,
+    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymbolicCholeskyRaw, SymmetricOrdering,
 };
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{Conj, MatMut, Par, Side};
@@ -103,7 +102,9 @@ impl Cholesky {
                 .map(|k| {
                     let width = s.supernode_end()[k] - s.supernode_begin()[k];
                     let below = s.supernode(k).pattern().len();
-                    (1..=width).map(|c| ((c + below) as f64).powi(2)).sum::<f64>()
+                    (1..=width)
+                        .map(|c| ((c + below) as f64).powi(2))
+                        .sum::<f64>()
                 })
                 .sum(),
         }

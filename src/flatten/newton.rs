@@ -10,8 +10,8 @@
 
 use super::assembly::{Dofs, NewtonSystem, PINNED};
 use super::cholesky::Cholesky;
-use super::ordering::Ordering;
 use super::objective::{hessian_offsets, Objective};
+use super::ordering::Ordering;
 use super::stopping::{Clocks, Outcome, StopRules};
 use super::Stage;
 use crate::progress::Progress;
@@ -97,11 +97,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
     /// Assembles the Hessian at `uv` (shifted as the first step would be) and
     /// factors it `repeats` times: the shortest numeric factorization, or `None` when
     /// the matrix is not positive definite.
-    pub fn time_factorization(
-        &mut self,
-        uv: &[[f64; 2]],
-        repeats: usize,
-    ) -> Option<Duration> {
+    pub fn time_factorization(&mut self, uv: &[[f64; 2]], repeats: usize) -> Option<Duration> {
         let chart = self.objective.chart;
         let mut grad_buf = vec![0.0; 2 * chart.mesh.corner_count()];
         let mut hess_buf = vec![0.0; self.hess_offsets[chart.face_count()]];
