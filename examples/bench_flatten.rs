@@ -1,13 +1,19 @@
 //! Flattening benchmark: prints tables of whole-run and per-stage times.
 //!
-//! Run: `cargo run --release --example bench_flatten [-- --large]`
-//! (`--large` adds a 1M-face quad disk).
+//! Run: `cargo run --release [--features metis] --example bench_flatten [-- --large]`
+//! (`--large` adds a 1M-face quad disk; `--orderings` prints section 0 only; the
+//! `metis` feature adds METIS to the orderings compared).
+//!
+//! 0. Fill-reducing orderings of the Newton system on 10k and 100k quads and their
+//!    triangulations: analysis time, factor size, multiply-adds, one factorization.
 //!
 //! 1. Quads vs the same surface triangulated (each quad split in two), for arap and
 //!    symmetric-dirichlet with every solver: time per stage and final distortion.
 //! 2. One Newton iteration and the whole solve, each relative to one numeric Cholesky
 //!    factorization of the same Hessian (measured in the same run).
-//! 3. Scaling on quad disks of 10k and 100k faces (1M with `--large`).
+//! 3. Scaling on quad disks of 10k and 100k faces (1M with `--large`): time and
+//!    resident memory per stage; with `--large` also each ordering's factorization
+//!    of the 1M-face Newton matrix.
 //! 4. Symmetric Dirichlet on a ~45k-face triangle disk from Tutte: time to come within
 //!    1% of the converged energy.
 
@@ -15,10 +21,16 @@
 mod common;
 
 use nalgebra::Point3;
-use polyflat::flatten::{auto_solver, solve_chart, ChartSolution, SolveOptions, Start};
+use polyflat::flatten::Stage;
+use polyflat::flatten::{
+    auto_solver, factorization_benchmark, solve_chart, ChartSolution, Ordering, SolveOptions, Start,
+};
 use polyflat::progress::Silent;
 use polyflat::settings::{EnergyKind, SolverKind};
 use polyflat::PolyMesh;
+use std::sync::atomic::{AtomicBool, Ordering as AtomicOrdering};
+use std::sync::Arc;
+use std::time::{Duration, Instant};
 
 /// `n × n` quads on the unit square lifted onto a smooth bump (not developable).
 fn bump_disk(n: usize) -> PolyMesh {
@@ -46,9 +58,20 @@ fn distortion(mesh: &PolyMesh, s: &ChartSolution) -> (f64, f64) {
 /// Solves `mesh` from `start`: sections 1–3 start as the pipeline does (least-squares
 /// conformal, Tutte when that folds), section 4 from Tutte as its question asks.
 fn run(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind, start: Start) -> ChartSolution {
+    run_ordered(mesh, energy, solver, start, Ordering::default())
+}
+
+fn run_ordered(
+    mesh: &PolyMesh,
+    energy: EnergyKind,
+    solver: SolverKind,
+    start: Start,
+    ordering: Ordering,
+) -> ChartSolution {
     let opts = SolveOptions {
         energy,
         solver,
+        ordering,
         ..SolveOptions::default()
     };
     match solve_chart(mesh, &opts, start, &Silent) {
@@ -98,9 +121,200 @@ fn newton_ratios(s: &ChartSolution) -> (f64, f64) {
     )
 }
 
+/// Section 0: each fill-reducing ordering on quad disks and their triangulations:
+/// symbolic analysis, factor size and the shortest of 3 numeric factorizations of
+/// the arap Newton matrix at the conformal start, then the whole Newton solve.
+fn all_orderings() -> Vec<Ordering> {
+    let mut all = vec![
+        Ordering::ScalarAmd,
+        Ordering::VertexAmd,
+        Ordering::Dissection,
+    ];
+    if cfg!(feature = "metis") {
+        all.push(Ordering::Metis);
+    }
+    all
+}
+
+fn orderings() {
+    println!("\n## 0. Fill-reducing orderings of the Newton system (arap)\n");
+    println!("| mesh | faces | ordering | analysis s | factor entries (M) | factorization multiply-adds (G) | one factorization s (best of 3) | Newton total s | L2 stretch |");
+    println!("|---|---|---|---|---|---|---|---|---|");
+    for n in [100, 316] {
+        let quads = bump_disk(n);
+        let tris = common::triangulated(&quads);
+        for (case, mesh) in [("quads", &quads), ("triangles", &tris)] {
+            for ordering in all_orderings() {
+                let opts = SolveOptions {
+                    energy: EnergyKind::Arap,
+                    ordering,
+                    ..SolveOptions::default()
+                };
+                let f = factorization_benchmark(mesh, &opts, 3).unwrap_or_else(|e| {
+                    eprintln!("{ordering:?} failed: {e}");
+                    std::process::exit(1);
+                });
+                let s = run_ordered(
+                    mesh,
+                    EnergyKind::Arap,
+                    SolverKind::Newton,
+                    Start::Conformal,
+                    ordering,
+                );
+                println!(
+                    "| {n}×{n} {case} | {} | {ordering:?} | {:.3} | {:.2} | {:.3} | {:.3} | {:.3} | {:.5} |",
+                    mesh.face_count(),
+                    f.analyse_ms / 1e3,
+                    f.factor_entries as f64 / 1e6,
+                    f.factor_flops / 1e9,
+                    f.factor_ms / 1e3,
+                    s.timings.total_ms / 1e3,
+                    distortion(mesh, &s).0,
+                );
+            }
+        }
+    }
+}
+
+/// A field of `/proc/self/status` in kB (`VmRSS`, `VmHWM`), if readable.
+fn proc_status(key: &str) -> Option<u64> {
+    let text = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = text.lines().find(|l| l.starts_with(key))?;
+    line.split_whitespace().nth(1)?.parse().ok()
+}
+
+/// A thread that reads `VmRSS` every [`SAMPLE_MS`] until stopped.
+struct RssSampler {
+    stop: Arc<AtomicBool>,
+    thread: std::thread::JoinHandle<Vec<(Instant, u64)>>,
+}
+
+const SAMPLE_MS: u64 = 5;
+
+impl RssSampler {
+    fn start() -> Self {
+        let stop = Arc::new(AtomicBool::new(false));
+        let flag = stop.clone();
+        let thread = std::thread::spawn(move || {
+            let mut samples = Vec::new();
+            while !flag.load(AtomicOrdering::Relaxed) {
+                if let Some(kb) = proc_status("VmRSS:") {
+                    samples.push((Instant::now(), kb));
+                }
+                std::thread::sleep(Duration::from_millis(SAMPLE_MS));
+            }
+            samples
+        });
+        RssSampler { stop, thread }
+    }
+
+    fn finish(self) -> Vec<(Instant, u64)> {
+        self.stop.store(true, AtomicOrdering::Relaxed);
+        self.thread.join().unwrap_or_default()
+    }
+}
+
+const MIB: f64 = 1024.0;
+
+/// Section 3: quad disks of 10k, 100k (and 1M with `--large`) faces with the Auto
+/// solver: time per stage, then resident memory per stage.
+fn scaling(large: bool) {
+    println!("\n## 3. Scaling on quad disks (Auto solver)\n");
+    let mut runs = Vec::new();
+    let mut sizes = vec![100, 316];
+    if large {
+        sizes.push(1000);
+    }
+    header();
+    for n in sizes {
+        let mesh = bump_disk(n);
+        let energies = if n >= 1000 {
+            vec![EnergyKind::SymmetricDirichlet]
+        } else {
+            vec![EnergyKind::Arap, EnergyKind::SymmetricDirichlet]
+        };
+        for energy in energies {
+            // Reset the kernel's high-water mark (VmHWM) to the current RSS.
+            let reset = std::fs::write("/proc/self/clear_refs", "5").is_ok();
+            let before = proc_status("VmRSS:").unwrap_or(0);
+            let sampler = RssSampler::start();
+            let began = Instant::now();
+            let s = run(&mesh, energy, SolverKind::Auto, Start::Conformal);
+            let samples = sampler.finish();
+            let hwm = proc_status("VmHWM:").filter(|_| reset);
+            row(&format!("{n}×{n} quads"), &mesh, energy, &s);
+            runs.push((n, mesh.face_count(), energy, s, samples, began, before, hwm));
+        }
+        if large && n >= 1000 {
+            for ordering in all_orderings()
+                .into_iter()
+                .filter(|&o| o != Ordering::ScalarAmd)
+            {
+                let opts = SolveOptions {
+                    energy: EnergyKind::SymmetricDirichlet,
+                    ordering,
+                    ..SolveOptions::default()
+                };
+                if let Ok(f) = factorization_benchmark(&mesh, &opts, 1) {
+                    println!(
+                        "\n{n}×{n} quads, {ordering:?}: analysis {:.2} s, factor entries {:.1} M, {:.1} G multiply-adds, one factorization {:.2} s",
+                        f.analyse_ms / 1e3,
+                        f.factor_entries as f64 / 1e6,
+                        f.factor_flops / 1e9,
+                        f.factor_ms / 1e3
+                    );
+                }
+            }
+        }
+    }
+    println!("\nResident memory (MiB): the largest VmRSS sample (every {SAMPLE_MS} ms) while each stage ran; 'before' is the RSS with the mesh loaded; 'whole run' is the kernel's VmHWM after resetting it before the run (clear_refs 5).\n");
+    println!("| case | faces | energy | before | setup | start | analysis | evaluate | assemble | factor + solve | line search | whole run |");
+    println!("|---|---|---|---|---|---|---|---|---|---|---|---|");
+    let groups: [&[Stage]; 7] = [
+        &[Stage::Setup],
+        &[Stage::Start],
+        &[Stage::Analysis],
+        &[Stage::Evaluate],
+        &[Stage::Assemble],
+        &[Stage::Factor, Stage::Solve],
+        &[Stage::LineSearch],
+    ];
+    for (n, faces, energy, s, samples, began, before, hwm) in runs {
+        let peaks: Vec<String> = groups
+            .iter()
+            .map(|group| {
+                let peak = s
+                    .spans
+                    .iter()
+                    .filter(|span| group.contains(&span.stage))
+                    .flat_map(|span| {
+                        let from = began + Duration::from_secs_f64(span.start_ms / 1e3);
+                        let to = began + Duration::from_secs_f64(span.end_ms / 1e3);
+                        samples
+                            .iter()
+                            .filter(move |(t, _)| *t >= from && *t <= to)
+                            .map(|(_, kb)| *kb)
+                    })
+                    .max();
+                peak.map_or("–".into(), |kb| format!("{:.0}", kb as f64 / MIB))
+            })
+            .collect();
+        println!(
+            "| {n}×{n} quads | {faces} | {energy} | {:.0} | {} | {} |",
+            before as f64 / MIB,
+            peaks.join(" | "),
+            hwm.map_or("–".into(), |kb| format!("{:.0}", kb as f64 / MIB)),
+        );
+    }
+}
+
 fn main() {
     let large = std::env::args().any(|a| a == "--large");
     println!("threads: {}", rayon::current_num_threads());
+    orderings();
+    if std::env::args().any(|a| a == "--orderings") {
+        return;
+    }
 
     println!("\n## 1. Quads vs the same surface triangulated\n");
     header();
@@ -144,19 +358,7 @@ fn main() {
         println!("| {case} | {it:.2} | {whole:.2} |");
     }
 
-    println!("\n## 3. Scaling on quad disks (Auto solver)\n");
-    header();
-    let mut sizes = vec![100, 316];
-    if large {
-        sizes.push(1000);
-    }
-    for n in sizes {
-        let mesh = bump_disk(n);
-        for energy in [EnergyKind::Arap, EnergyKind::SymmetricDirichlet] {
-            let s = run(&mesh, energy, SolverKind::Auto, Start::Conformal);
-            row(&format!("{n}×{n} quads"), &mesh, energy, &s);
-        }
-    }
+    scaling(large);
 
     println!("\n## 4. Symmetric Dirichlet on a triangle disk from Tutte: time to 1% of the converged energy\n");
     println!("| faces | solver | converged energy | iterations to 1% | time to 1% s | total s |");

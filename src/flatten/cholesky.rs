@@ -1,11 +1,17 @@
 //! Sparse Cholesky `LLᵀ` through faer: symbolic analysis (fill-reducing ordering and
 //! elimination structure) once per pattern, numeric factorization per matrix, solves
 //! in place. Matrices are given as their lower triangle in CSC form.
+//!
+//! Scalar systems (Tutte, local–global) use faer's approximate minimum degree; the
+//! Newton system, whose unknowns come in 2×2 vertex blocks, takes an [`Ordering`] of its
+//! vertex graph (see [`super::ordering`]).
 
+use super::ordering::{dissection, expand_blocks, metis, vertex_amd, vertex_graph, Ordering};
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::cholesky::llt::factor::LltRegularization;
+use faer::perm::PermRef;
 use faer::sparse::linalg::cholesky::{
-    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymmetricOrdering,
+    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymbolicCholeskyRaw, SymmetricOrdering,
 };
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{Conj, MatMut, Par, Side};
@@ -20,16 +26,47 @@ pub(crate) struct Cholesky {
 }
 
 impl Cholesky {
-    /// Symbolic analysis of the n×n pattern (lower triangle, CSC, rows sorted).
+    /// Symbolic analysis of the n×n pattern (lower triangle, CSC, rows sorted) with
+    /// faer's approximate minimum degree ordering.
     pub fn analyse(n: usize, col_ptr: &[usize], row_idx: &[usize]) -> Result<Self, String> {
+        Self::analyse_ordered(n, col_ptr, row_idx, SymmetricOrdering::Amd)
+    }
+
+    /// Symbolic analysis of a pattern of 2×2 blocks (vertex `k` owns unknowns `2k`,
+    /// `2k + 1`; lower triangle, CSC, rows sorted) with `ordering`; `points` are the
+    /// vertices' 3D positions, used by [`Ordering::Dissection`].
+    pub fn analyse_blocks(
+        col_ptr: &[usize],
+        row_idx: &[usize],
+        ordering: Ordering,
+        points: &[[f64; 3]],
+    ) -> Result<Self, String> {
+        let n = 2 * points.len();
+        if ordering == Ordering::ScalarAmd || n == 0 {
+            return Self::analyse(n, col_ptr, row_idx);
+        }
+        let (xadj, adjncy) = vertex_graph(points.len(), col_ptr, row_idx);
+        let order = match ordering {
+            Ordering::Dissection => dissection(points, &xadj, &adjncy)?,
+            Ordering::Metis => metis(&xadj, &adjncy)?,
+            _ => vertex_amd(&xadj, &adjncy)?,
+        };
+        drop((xadj, adjncy));
+        let (fwd, inv) = expand_blocks(&order);
+        let perm = PermRef::new_checked(&fwd, &inv, n);
+        Self::analyse_ordered(n, col_ptr, row_idx, SymmetricOrdering::Custom(perm))
+    }
+
+    fn analyse_ordered(
+        n: usize,
+        col_ptr: &[usize],
+        row_idx: &[usize],
+        ordering: SymmetricOrdering<'_, usize>,
+    ) -> Result<Self, String> {
         let pattern = SymbolicSparseColMatRef::new_checked(n, n, col_ptr, None, row_idx);
-        let symbolic = factorize_symbolic_cholesky(
-            pattern,
-            Side::Lower,
-            SymmetricOrdering::Amd,
-            Default::default(),
-        )
-        .map_err(|e| format!("the sparse analysis failed ({e:?})"))?;
+        let symbolic =
+            factorize_symbolic_cholesky(pattern, Side::Lower, ordering, Default::default())
+                .map_err(|e| format!("the sparse analysis failed ({e:?})"))?;
         let par = Par::rayon(0);
         let req = symbolic
             .factorize_numeric_llt_scratch::<f64>(par, Default::default())
@@ -44,6 +81,33 @@ impl Cholesky {
             factored: false,
             par,
         })
+    }
+
+    /// Stored entries of the factor `L`.
+    pub fn factor_entries(&self) -> usize {
+        self.symbolic.len_val()
+    }
+
+    /// Multiply-adds of one numeric factorization, `Σ_j c_j²` over the factor's
+    /// columns of `c_j` stored entries (supernodes counted with their padding): a
+    /// measure of its cost that does not depend on the machine's load.
+    pub fn flops(&self) -> f64 {
+        match self.symbolic.raw() {
+            SymbolicCholeskyRaw::Simplicial(s) => s
+                .col_ptr()
+                .windows(2)
+                .map(|w| ((w[1] - w[0]) as f64).powi(2))
+                .sum(),
+            SymbolicCholeskyRaw::Supernodal(s) => (0..s.n_supernodes())
+                .map(|k| {
+                    let width = s.supernode_end()[k] - s.supernode_begin()[k];
+                    let below = s.supernode(k).pattern().len();
+                    (1..=width)
+                        .map(|c| ((c + below) as f64).powi(2))
+                        .sum::<f64>()
+                })
+                .sum(),
+        }
     }
 
     /// Numeric factorization of the matrix with the analysed pattern and `values`;

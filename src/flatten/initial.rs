@@ -5,6 +5,7 @@ use super::cholesky::Cholesky;
 use super::energy::Conformal;
 use super::newton::Newton;
 use super::objective::Objective;
+use super::ordering::Ordering;
 use super::stopping::StopRules;
 use crate::progress::Silent;
 use std::f64::consts::PI;
@@ -135,15 +136,18 @@ pub(crate) fn far_pins(chart: &Chart) -> [u32; 2] {
 /// Least-squares conformal map (Lévy, Petitjean, Ray & Maillot 2002): the minimiser of
 /// the conformal energy (with the projection penalty) over the whole chart, with the
 /// [`far_pins`] at `(0, 0)` and `(d, 0)`, `d` their 3D distance. The energy is
-/// quadratic, so this is one linear solve (one Newton step).
-pub(crate) fn least_squares_conformal(chart: &Chart) -> Result<Vec<[f64; 2]>, String> {
+/// quadratic, so this is one linear solve (one Newton step), analysed with `ordering`.
+pub(crate) fn least_squares_conformal(
+    chart: &Chart,
+    ordering: Ordering,
+) -> Result<Vec<[f64; 2]>, String> {
     let pins = far_pins(chart);
     let p = &chart.mesh.positions;
     let d = (p[pins[1] as usize] - p[pins[0] as usize]).norm();
     let mut uv = vec![[0.0; 2]; chart.vertex_count()];
     uv[pins[1] as usize] = [d, 0.0];
     let objective = Objective::new(chart, &Conformal);
-    let mut newton = Newton::new(&objective, &pins, false)?;
+    let mut newton = Newton::new(&objective, &pins, false, ordering)?;
     let stop = StopRules {
         max_iterations: 1,
         tolerance: 0.0,

@@ -26,6 +26,7 @@ mod lbfgs;
 mod local_global;
 mod newton;
 mod objective;
+mod ordering;
 mod stopping;
 
 use crate::error::{Error, Result};
@@ -35,6 +36,7 @@ use crate::settings::{EnergyKind, Settings, SolverKind};
 use chart::Chart;
 use nalgebra::Point2;
 use objective::Objective;
+pub use ordering::Ordering;
 use serde::Serialize;
 use std::time::Instant;
 use stopping::{Outcome, StopRules};
@@ -56,6 +58,9 @@ pub struct SolveOptions {
     pub tolerance: f64,
     /// Chart id used in error messages.
     pub chart_id: usize,
+    /// Fill-reducing ordering of the Newton system's factorization (the default is
+    /// the fastest measured by `examples/bench_flatten.rs`).
+    pub ordering: Ordering,
 }
 
 impl SolveOptions {
@@ -68,6 +73,7 @@ impl SolveOptions {
             max_iterations: settings.max_iterations,
             tolerance: settings.tolerance,
             chart_id,
+            ordering: Ordering::default(),
         }
     }
 }
@@ -106,6 +112,10 @@ pub enum StartKind {
 pub struct StageTimings {
     /// Checks, per-face precomputation, sparse pattern and symbolic analysis.
     pub setup_ms: f64,
+    /// Of `setup_ms`: the Newton system's symbolic analysis (ordering included).
+    pub analyse_ms: f64,
+    /// Stored entries of the Newton system's Cholesky factor (0 for other solvers).
+    pub factor_entries: usize,
     /// Computing the starting layout.
     pub start_ms: f64,
     /// Per-face energy, gradient and Hessian evaluation.
@@ -122,6 +132,38 @@ pub struct StageTimings {
     pub line_search_ms: f64,
     /// The whole call.
     pub total_ms: f64,
+}
+
+/// A stage of a solve, for [`ChartSolution::spans`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stage {
+    /// Checks and per-face precomputation.
+    Setup,
+    /// The starting layout (its own linear solve included).
+    Start,
+    /// The Newton system's pattern and symbolic analysis.
+    Analysis,
+    /// Per-face energy, gradient and Hessian evaluation.
+    Evaluate,
+    /// Gathering per-face terms into the global gradient and matrix.
+    Assemble,
+    /// One numeric factorization.
+    Factor,
+    /// Triangular solves.
+    Solve,
+    /// One line search.
+    LineSearch,
+}
+
+/// When one stage ran, in milliseconds since the solve began.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StageSpan {
+    /// Which stage.
+    pub stage: Stage,
+    /// Start, milliseconds since the call began.
+    pub start_ms: f64,
+    /// End, milliseconds since the call began.
+    pub end_ms: f64,
 }
 
 /// The solved layout of one chart.
@@ -143,6 +185,9 @@ pub struct ChartSolution {
     pub flipped_faces: usize,
     /// Time per stage.
     pub timings: StageTimings,
+    /// When each stage ran: set-up, start, and for Newton its analysis and every
+    /// evaluation, assembly, factorization, solve and line search.
+    pub spans: Vec<StageSpan>,
     /// Sentences about fallbacks taken (e.g. a rejected warm start).
     pub notes: Vec<String>,
 }
@@ -195,10 +240,11 @@ pub fn solve_chart(
     };
 
     let start_clock = Instant::now();
+    let mut spans = vec![(Stage::Setup, began, start_clock)];
     let (mut uv, mut start_kind) = match start {
         Start::Tutte => (initial::tutte(&prepared).map_err(fail)?, StartKind::Tutte),
         Start::Conformal => (
-            initial::least_squares_conformal(&prepared).map_err(fail)?,
+            initial::least_squares_conformal(&prepared, opts.ordering).map_err(fail)?,
             StartKind::Conformal,
         ),
         Start::Given(given) => (given_start(chart, given).map_err(fail)?, StartKind::Given),
@@ -231,6 +277,7 @@ pub fn solve_chart(
         }
     }
     timings.start_ms = ms(start_clock.elapsed());
+    spans.push((Stage::Start, start_clock, Instant::now()));
 
     let mut solver = match opts.solver {
         SolverKind::Auto => auto_solver(opts.energy),
@@ -269,6 +316,7 @@ pub fn solve_chart(
         notes,
         timings,
         began,
+        spans,
     };
     Ok(solution(&objective, uv, run))
 }
@@ -318,8 +366,9 @@ pub fn solve_chart_held(
             )));
         }
     }
+    let setup_end = Instant::now();
     let mut timings = StageTimings {
-        setup_ms: ms(began.elapsed()),
+        setup_ms: ms(setup_end - began),
         ..StageTimings::default()
     };
     let mut notes = Vec::new();
@@ -362,6 +411,7 @@ pub fn solve_chart_held(
         notes,
         timings,
         began,
+        spans: vec![(Stage::Setup, began, setup_end)],
     };
     Ok(solution(&objective, uv, run))
 }
@@ -430,13 +480,68 @@ fn run_solver(
     let outcome = match solver {
         SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, progress),
         SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
-        _ => newton::Newton::new(objective, pins, shift).and_then(|mut n| {
+        _ => newton::Newton::new(objective, pins, shift, opts.ordering).and_then(|mut n| {
             timings.setup_ms += ms(setup_clock.elapsed());
-            n.run(uv, &stop, progress)
+            let (analysis_began, analysis_ended) = n.analysis_span();
+            timings.analyse_ms += ms(analysis_ended - analysis_began);
+            timings.factor_entries = n.factor_entries();
+            n.run(uv, &stop, progress).map(|mut o| {
+                o.clocks
+                    .spans
+                    .push((Stage::Analysis, setup_clock, analysis_ended));
+                o
+            })
         }),
     };
     progress.end();
     outcome
+}
+
+/// One numeric factorization of a chart's Newton matrix, as measured by
+/// [`factorization_benchmark`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FactorizationFigures {
+    /// Symbolic analysis (ordering included), milliseconds.
+    pub analyse_ms: f64,
+    /// Stored entries of the factor.
+    pub factor_entries: usize,
+    /// Multiply-adds of one numeric factorization (`Σ_j c_j²`, `c_j` the stored
+    /// entries of column `j`).
+    pub factor_flops: f64,
+    /// The shortest of the timed numeric factorizations, milliseconds.
+    pub factor_ms: f64,
+}
+
+/// For benchmarks: analyses the Newton system of `opts.energy` on `chart` (one pin)
+/// with `opts.ordering`, assembles its Hessian at the least-squares conformal map and
+/// times `repeats` numeric factorizations of it.
+///
+/// Errors as [`solve_chart`], and when the Hessian is not positive definite.
+pub fn factorization_benchmark(
+    chart: &PolyMesh,
+    opts: &SolveOptions,
+    repeats: usize,
+) -> Result<FactorizationFigures> {
+    let fail = |message: String| Error::Solve {
+        chart: opts.chart_id,
+        message,
+    };
+    let prepared = Chart::new(chart, opts.projection_weight).map_err(fail)?;
+    let objective = Objective::new(&prepared, energy::energy(opts.energy));
+    let mut uv = initial::least_squares_conformal(&prepared, opts.ordering).map_err(fail)?;
+    scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    let pins = [prepared.loops[0][0]];
+    let mut newton = newton::Newton::new(&objective, &pins, true, opts.ordering).map_err(fail)?;
+    let factor = newton
+        .time_factorization(&uv, repeats)
+        .ok_or_else(|| fail("the Newton matrix is not positive definite".into()))?;
+    let (analysis_began, analysis_ended) = newton.analysis_span();
+    Ok(FactorizationFigures {
+        analyse_ms: ms(analysis_ended - analysis_began),
+        factor_entries: newton.factor_entries(),
+        factor_flops: newton.factor_flops(),
+        factor_ms: ms(factor),
+    })
 }
 
 /// What a solver run left besides the UVs.
@@ -447,6 +552,8 @@ struct Run {
     notes: Vec<String>,
     timings: StageTimings,
     began: Instant,
+    /// Set-up and start spans (the solver adds its own).
+    spans: Vec<(Stage, Instant, Instant)>,
 }
 
 /// The [`ChartSolution`] of a finished run.
@@ -458,11 +565,14 @@ fn solution(objective: &Objective, uv: Vec<[f64; 2]>, run: Run) -> ChartSolution
         notes,
         mut timings,
         began,
+        mut spans,
     } = run;
     let flipped_faces = objective.flipped_faces(&uv);
     // The solvers work above the energy's floor Σ_f A_f min ψ; report E itself.
     let floor = objective.chart.area * objective.energy.minimum();
     let c = outcome.clocks;
+    spans.extend(c.spans);
+    spans.sort_by_key(|s| s.1);
     timings.evaluate_ms = ms(c.evaluate);
     timings.assemble_ms = ms(c.assemble);
     timings.setup_ms += ms(c.setup);
@@ -484,6 +594,14 @@ fn solution(objective: &Objective, uv: Vec<[f64; 2]>, run: Run) -> ChartSolution
         start,
         flipped_faces,
         timings,
+        spans: spans
+            .iter()
+            .map(|&(stage, a, b)| StageSpan {
+                stage,
+                start_ms: ms(a.duration_since(began)),
+                end_ms: ms(b.duration_since(began)),
+            })
+            .collect(),
         notes,
     }
 }

@@ -8,11 +8,14 @@
 //! null space (rotation) gets a small diagonal shift, raised when a factorization
 //! fails.
 
-use super::assembly::{Dofs, NewtonSystem};
+use super::assembly::{Dofs, NewtonSystem, PINNED};
 use super::cholesky::Cholesky;
 use super::objective::{hessian_offsets, Objective};
-use super::stopping::{timed, Clocks, Outcome, StopRules};
+use super::ordering::Ordering;
+use super::stopping::{Clocks, Outcome, StopRules};
+use super::Stage;
 use crate::progress::Progress;
+use std::time::{Duration, Instant};
 
 /// Armijo sufficient-decrease constant (common practice, no published source).
 const ARMIJO: f64 = 1e-4;
@@ -35,29 +38,92 @@ pub(crate) struct Newton<'o, 'c, 'm> {
     cholesky: Cholesky,
     hess_offsets: Vec<usize>,
     shift: bool,
+    /// When the symbolic analysis began and ended.
+    analysis: (Instant, Instant),
 }
 
 impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
     /// Prepares Newton's method on `objective` with the vertices `pins` held fixed.
     /// `shift` adds the small diagonal shift from the first factorization (needed
-    /// when a rotation null space is left).
+    /// when a rotation null space is left); `ordering` is the symbolic analysis's
+    /// fill-reducing ordering.
     pub fn new(
         objective: &'o Objective<'c, 'm>,
         pins: &[u32],
         shift: bool,
+        ordering: Ordering,
     ) -> Result<Self, String> {
         let chart = objective.chart;
         let hess_offsets = hessian_offsets(chart);
         let dofs = Dofs::new(chart.vertex_count(), pins);
         let system = NewtonSystem::new(chart, dofs, &hess_offsets)?;
-        let cholesky = Cholesky::analyse(system.n, &system.col_ptr, &system.row_idx)?;
+        let points: Vec<[f64; 3]> = system
+            .dofs
+            .index
+            .iter()
+            .zip(&chart.mesh.positions)
+            .filter(|(k, _)| **k != PINNED)
+            .map(|(_, p)| [p.x, p.y, p.z])
+            .collect();
+        let clock = Instant::now();
+        let cholesky =
+            Cholesky::analyse_blocks(&system.col_ptr, &system.row_idx, ordering, &points)?;
+        let analysis = (clock, Instant::now());
         Ok(Newton {
             objective,
             system,
             cholesky,
             hess_offsets,
             shift,
+            analysis,
         })
+    }
+
+    /// Stored entries of the factor of the Newton matrix.
+    pub fn factor_entries(&self) -> usize {
+        self.cholesky.factor_entries()
+    }
+
+    /// Multiply-adds of one numeric factorization of the Newton matrix.
+    pub fn factor_flops(&self) -> f64 {
+        self.cholesky.flops()
+    }
+
+    /// When the symbolic analysis (ordering included) began and ended.
+    pub fn analysis_span(&self) -> (Instant, Instant) {
+        self.analysis
+    }
+
+    /// Assembles the Hessian at `uv` (shifted as the first step would be) and
+    /// factors it `repeats` times: the shortest numeric factorization, or `None` when
+    /// the matrix is not positive definite.
+    pub fn time_factorization(&mut self, uv: &[[f64; 2]], repeats: usize) -> Option<Duration> {
+        let chart = self.objective.chart;
+        let mut grad_buf = vec![0.0; 2 * chart.mesh.corner_count()];
+        let mut hess_buf = vec![0.0; self.hess_offsets[chart.face_count()]];
+        let mut values = vec![0.0; self.system.row_idx.len()];
+        self.objective
+            .evaluate(uv, &mut grad_buf, Some((&mut hess_buf, &self.hess_offsets)));
+        self.system.assemble_hessian(&hess_buf, &mut values);
+        let diagonal = &self.system.diagonal;
+        let mean =
+            diagonal.iter().map(|&p| values[p].abs()).sum::<f64>() / diagonal.len().max(1) as f64;
+        if self.shift {
+            for &p in diagonal {
+                values[p] += SHIFT * mean;
+            }
+        }
+        let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
+        (0..repeats.max(1))
+            .map(|_| {
+                let clock = Instant::now();
+                self.cholesky
+                    .factor(col_ptr, row_idx, &values)
+                    .then(|| clock.elapsed())
+            })
+            .collect::<Option<Vec<_>>>()?
+            .into_iter()
+            .min()
     }
 
     /// Minimises from `uv` (per-vertex UVs, updated in place) until a stop rule holds.
@@ -78,7 +144,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
         let mut duv = vec![[0.0; 2]; uv.len()];
         let mut trial = uv.to_vec();
         while out.iterations < stop.max_iterations {
-            let e = timed(&mut out.clocks.evaluate, || {
+            let e = out.clocks.time(Stage::Evaluate, || {
                 self.objective.evaluate(
                     uv,
                     &mut grad_buf,
@@ -94,7 +160,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             if out.history.is_empty() {
                 out.record(e);
             }
-            timed(&mut out.clocks.assemble, || {
+            out.clocks.time(Stage::Assemble, || {
                 self.system.gradient.apply(&grad_buf, &mut grad);
                 self.system.assemble_hessian(&hess_buf, &mut values);
             });
@@ -111,7 +177,7 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
                 }
                 slope = -grad.iter().map(|g| g * g).sum::<f64>();
             }
-            let accepted = timed(&mut out.clocks.line_search, || {
+            let accepted = out.clocks.time(Stage::LineSearch, || {
                 duv.iter_mut().for_each(|d| *d = [0.0; 2]);
                 self.system.dofs.scatter(&step, &mut duv);
                 let mut t: f64 = 1.0;
@@ -167,13 +233,13 @@ impl<'o, 'c, 'm> Newton<'o, 'c, 'm> {
             applied = shift;
             clocks.factorizations += 1;
             let (col_ptr, row_idx) = (&self.system.col_ptr, &self.system.row_idx);
-            if timed(&mut clocks.factor, || {
+            if clocks.time(Stage::Factor, || {
                 self.cholesky.factor(col_ptr, row_idx, values)
             }) {
                 for (s, g) in step.iter_mut().zip(grad) {
                     *s = -g;
                 }
-                timed(&mut clocks.solve, || self.cholesky.solve(step));
+                clocks.time(Stage::Solve, || self.cholesky.solve(step));
                 return Ok(());
             }
             shift = if shift > 0.0 {

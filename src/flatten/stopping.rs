@@ -1,5 +1,6 @@
 //! Stopping rules and per-stage clocks shared by the solvers.
 
+use super::Stage;
 use std::time::{Duration, Instant};
 
 /// When a solver stops (whichever comes first).
@@ -28,7 +29,7 @@ impl StopRules {
 }
 
 /// Time spent per solver stage.
-#[derive(Debug, Clone, Copy, Default)]
+#[derive(Debug, Clone, Default)]
 pub(crate) struct Clocks {
     /// Solver set-up: sparse pattern, symbolic analysis, constant matrices.
     pub setup: Duration,
@@ -44,6 +45,29 @@ pub(crate) struct Clocks {
     pub solve: Duration,
     /// Line search (step bound and trial energies).
     pub line_search: Duration,
+    /// When each stage ran (Newton only).
+    pub spans: Vec<(Stage, Instant, Instant)>,
+}
+
+impl Clocks {
+    /// Runs `f` as `stage`: adds its duration to the stage's clock and records when
+    /// it ran.
+    pub fn time<T>(&mut self, stage: Stage, f: impl FnOnce() -> T) -> T {
+        let t = Instant::now();
+        let out = f();
+        let end = Instant::now();
+        let clock = match stage {
+            Stage::Evaluate => &mut self.evaluate,
+            Stage::Assemble => &mut self.assemble,
+            Stage::Factor => &mut self.factor,
+            Stage::Solve => &mut self.solve,
+            Stage::LineSearch => &mut self.line_search,
+            Stage::Setup | Stage::Start | Stage::Analysis => &mut self.setup,
+        };
+        *clock += end - t;
+        self.spans.push((stage, t, end));
+        out
+    }
 }
 
 /// Runs `f` and adds its duration to `clock`.
