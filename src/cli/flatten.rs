@@ -84,9 +84,10 @@ pub fn run(args: &FlattenArgs) -> Result<()> {
     if !args.quiet {
         let g = &outcome.report.global;
         eprintln!(
-            "{}: {} charts, stretch L2 {:.4}, angle mean {:.4}, flipped {}, overlaps {}, utilization {:.3}",
+            "{}: {} chart{}, stretch L2 {:.4}, angle mean {:.4}, flipped {}, overlaps {}, utilization {:.3}",
             args.output.display(),
             g.charts,
+            if g.charts == 1 { "" } else { "s" },
             g.metrics.stretch_l2,
             g.metrics.angle_distortion_mean,
             g.metrics.flipped_faces,
