@@ -38,8 +38,9 @@ const MAX_MERGE_ROUNDS: usize = 8;
 /// 1.25), with no fold and no self-overlap: merging trades distortion for fewer
 /// seams, and only nearly free merges are worth it. Measured: at 0.4 (1.10) a demo
 /// barrel's cap merged into its side (L2 stretch 1.001 → 1.055, mean σ1/σ2 1.03 →
-/// 1.31); at 0.1 the cap stays apart, and Spot's automatic charts go from 57 to 10
-/// with L2 stretch 1.010.
+/// 1.31); at 0.1 the cap stays apart, and Spot's automatic charts went from 57 to 10
+/// with L2 stretch 1.010 (before border smoothing and [`MERGE_FILL`]; now 51 to 9,
+/// 1.014).
 const MERGE_HEADROOM: f64 = 0.1;
 
 /// A merge is also refused when the joined chart covers less of its minimum-area
