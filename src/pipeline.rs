@@ -27,6 +27,11 @@ use crate::settings::{AtlasMetric, EnergyKind, SeamMode, Settings, SolverKind};
 /// How many times an automatic chart may be split again for stretch or overlap.
 const MAX_SPLIT_ROUNDS: usize = 6;
 
+/// Further rounds, after [`MAX_SPLIT_ROUNDS`], that split only charts that still fold
+/// or overlap themselves: the layout must have neither, and each round halves such a
+/// chart, so this reaches single faces from any chart of up to 2^40 faces.
+const MAX_REPAIR_ROUNDS: usize = 40;
+
 /// Charts with fewer faces than this are never split again.
 const MIN_SPLIT_FACES: usize = 2;
 
@@ -477,28 +482,42 @@ pub(crate) fn solve_all(
 /// overlap or fold on themselves, and flattens the pieces again.
 pub(crate) fn split_over_stretched(
     mesh: &PolyMesh,
-    mut solved: Vec<Solved>,
+    solved: Vec<Solved>,
     settings: &Settings,
     options: &SolveOptions,
     progress: &dyn Progress,
 ) -> Result<Vec<Solved>> {
-    for _ in 0..MAX_SPLIT_ROUNDS {
-        let (bad, good): (Vec<Solved>, Vec<Solved>) = solved
-            .into_par_iter()
-            .partition(|s| needs_split(mesh, s, settings.max_stretch));
-        solved = good;
+    let mut done = Vec::new();
+    let mut pending = solved;
+    for round in 0..MAX_SPLIT_ROUNDS + MAX_REPAIR_ROUNDS {
+        let (bad, good): (Vec<Solved>, Vec<Solved>) =
+            std::mem::take(&mut pending).into_par_iter().partition(|s| {
+                if round < MAX_SPLIT_ROUNDS {
+                    needs_split(mesh, s, settings.max_stretch)
+                } else {
+                    needs_repair(mesh, s)
+                }
+            });
+        done.extend(good);
         if bad.is_empty() {
             break;
         }
-        let pieces: Vec<Chart> = bad
-            .iter()
-            .flat_map(|s| charts::split_chart(mesh, &s.chart))
-            .collect();
+        let mut pieces = Vec::new();
+        for s in bad {
+            let parts = charts::split_chart(mesh, &s.chart);
+            if parts.len() < 2 {
+                done.push(s);
+            } else {
+                pieces.extend(parts);
+            }
+        }
         progress.begin("re-flattening split charts", pieces.len() as u64);
-        solved.extend(solve_all(mesh, pieces, options, progress)?);
+        pending = solve_all(mesh, pieces, options, progress)?;
         progress.end();
     }
-    Ok(solved)
+    done.extend(pending);
+    done.sort_by_key(|s| s.chart.faces.first().copied());
+    Ok(done)
 }
 
 /// Splits automatic charts longer than [`ELONGATED`] times their width in two and
@@ -562,27 +581,54 @@ fn aspect(uvs: &[Point2<f64>]) -> f64 {
 }
 
 fn needs_split(mesh: &PolyMesh, s: &Solved, max_stretch: f64) -> bool {
-    if s.chart.origin == ChartOrigin::Kept || s.chart.faces.len() < MIN_SPLIT_FACES {
-        return false;
-    }
-    !flattens_within(mesh, s, max_stretch)
+    splittable(s) && !check_layout(mesh, s).is_some_and(|c| c.clean_within(max_stretch))
+}
+
+/// Whether a splittable chart still folds or overlaps itself.
+fn needs_repair(mesh: &PolyMesh, s: &Solved) -> bool {
+    splittable(s) && !check_layout(mesh, s).is_some_and(|c| c.clean_within(f64::INFINITY))
+}
+
+fn splittable(s: &Solved) -> bool {
+    s.chart.origin != ChartOrigin::Kept && s.chart.faces.len() >= MIN_SPLIT_FACES
 }
 
 /// Whether a solved chart's L2 stretch is at most `limit` with no fold and no
 /// self-overlap.
 fn flattens_within(mesh: &PolyMesh, s: &Solved, limit: f64) -> bool {
+    check_layout(mesh, s).is_some_and(|c| c.clean_within(limit))
+}
+
+/// What decides whether a flattened chart is kept as it is.
+struct LayoutCheck {
+    stretch_l2: f64,
+    overlapping_face_pairs: usize,
+    flipped_faces: usize,
+}
+
+impl LayoutCheck {
+    fn clean_within(&self, limit: f64) -> bool {
+        self.stretch_l2 <= limit && self.overlapping_face_pairs == 0 && self.flipped_faces == 0
+    }
+}
+
+/// L2 stretch, overlaps and folds of one solved chart (`None` when its metrics
+/// cannot be computed).
+fn check_layout(mesh: &PolyMesh, s: &Solved) -> Option<LayoutCheck> {
     let chart_mesh = s.chart.mesh(mesh);
     let corners = &chart_mesh.face_vertices;
-    let Ok(fm) = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners) else {
-        return false;
-    };
+    let fm = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners).ok()?;
     let laid = PolyMesh {
         uvs: s.solution.uvs.clone(),
         corner_uvs: Some(corners.clone()),
         ..chart_mesh
     };
     let m = metrics::summarize(&laid, &fm, None);
-    m.stretch_l2 <= limit && m.overlapping_face_pairs == 0 && m.flipped_faces == 0
+    Some(LayoutCheck {
+        stretch_l2: m.stretch_l2,
+        overlapping_face_pairs: m.overlapping_face_pairs,
+        flipped_faces: m.flipped_faces,
+    })
 }
 
 /// How much of its minimum-area enclosing rectangle a flattened chart covers (UV

@@ -430,3 +430,52 @@ fn non_manifold_and_inconsistently_wound_meshes_are_cut_not_refused() {
         );
     }
 }
+
+/// A scan-like surface: [`cube_sphere`] (16 × 16 quads a side) lifted by smooth
+/// bumps, with about one face in eleven missing, scattered, so holes touch each other
+/// at corners (pinched boundaries and non-manifold vertices) as in a cleaned-up scan.
+fn holey_bumpy_sphere() -> PolyMesh {
+    let sphere = cube_sphere(16);
+    let positions = sphere
+        .positions
+        .iter()
+        .map(|p| {
+            let r = 1.0
+                + 0.2 * (3.0 * p.x + 1.0).sin() * (4.0 * p.y).cos()
+                + 0.1 * (9.0 * p.z + 2.0 * p.x).sin();
+            Point3::from(p.coords * r)
+        })
+        .collect();
+    let faces: Vec<Vec<u32>> = sphere
+        .faces()
+        .enumerate()
+        .filter(|(f, _)| (*f as u64 * 2_654_435_761) % 53 >= 5)
+        .map(|(_, face)| face.to_vec())
+        .collect();
+    PolyMesh::from_faces(positions, &faces)
+}
+
+#[test]
+fn charts_that_still_overlap_after_the_stretch_splits_are_split_until_they_do_not() {
+    // Measured with the stretch rounds alone (no further splitting for overlaps):
+    // 32 charts, 4 overlapping face pairs; with them 30 charts and none.
+    let mesh = holey_bumpy_sphere();
+    let outcome = flatten(&mesh, &Settings::default());
+    let report = &outcome.report;
+    assert!(
+        report
+            .input
+            .notes
+            .iter()
+            .any(|n| n.contains("non-manifold")),
+        "notes {:?}",
+        report.input.notes
+    );
+    assert_whole_layout_is_sound("holey sphere", &mesh, &outcome, 1024, 4);
+    assert_layout_disks("holey sphere", &mesh, &outcome);
+    assert!(
+        report.global.charts <= 40,
+        "{} charts for 1391 faces",
+        report.global.charts
+    );
+}
