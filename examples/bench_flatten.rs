@@ -1,8 +1,9 @@
 //! Flattening benchmark: prints tables of whole-run and per-stage times.
 //!
 //! Run: `cargo run --release [--features metis] --example bench_flatten [-- --large]`
-//! (`--large` adds a 1M-face quad disk; `--orderings` prints section 0 only; the
-//! `metis` feature adds METIS to the orderings compared).
+//! (`--large` adds a 1M-face quad disk; `--orderings` prints section 0 only,
+//! `--crossover` section 5 only; the `metis` feature adds METIS to the orderings
+//! compared).
 //!
 //! 0. Fill-reducing orderings of the Newton system on 10k and 100k quads and their
 //!    triangulations: analysis time, factor size, multiply-adds, one factorization.
@@ -16,6 +17,8 @@
 //!    of the 1M-face Newton matrix.
 //! 4. Symmetric Dirichlet on a ~45k-face triangle disk from Tutte: time to come within
 //!    1% of the converged energy.
+//! 5. Only with `--crossover`: arap with Newton against local–global on bump disks of
+//!    100 to 78k quads and their triangulations.
 
 #[path = "../tests/flatten_common/mod.rs"]
 mod common;
@@ -308,9 +311,48 @@ fn scaling(large: bool) {
     }
 }
 
+/// Section 5: arap with Newton against local–global by chart size, on the bump disk
+/// and a bump twice as high (local–global slows where the map bends more); each time
+/// the shortest of 3 runs.
+fn crossover() {
+    println!("\n## 5. arap: Newton against local–global by chart size\n");
+    println!("| surface | faces | vertices | Newton s | local–global s (iterations) | local–global / Newton |");
+    println!("|---|---|---|---|---|---|");
+    for height in [0.3, 0.6] {
+        for n in [10, 20, 40, 70, 100, 140, 200, 280] {
+            let quads =
+                common::mapped(&bump_disk(n), |p| Point3::new(p.x, p.y, p.z * height / 0.3));
+            for (case, mesh) in [
+                ("quads", quads.clone()),
+                ("triangles", common::triangulated(&quads)),
+            ] {
+                let best = |solver| {
+                    (0..3)
+                        .map(|_| run(&mesh, EnergyKind::Arap, solver, Start::Conformal))
+                        .min_by(|a, b| a.timings.total_ms.total_cmp(&b.timings.total_ms))
+                        .map(|s| (s.timings.total_ms / 1e3, s.iterations))
+                        .unwrap_or_default()
+                };
+                let (newton, _) = best(SolverKind::Newton);
+                let (lg, iterations) = best(SolverKind::LocalGlobal);
+                println!(
+                    "| bump {height} {case} | {} | {} | {newton:.4} | {lg:.4} ({iterations}) | {:.2} |",
+                    mesh.face_count(),
+                    mesh.vertex_count(),
+                    lg / newton
+                );
+            }
+        }
+    }
+}
+
 fn main() {
     let large = std::env::args().any(|a| a == "--large");
     println!("threads: {}", rayon::current_num_threads());
+    if std::env::args().any(|a| a == "--crossover") {
+        crossover();
+        return;
+    }
     orderings();
     if std::env::args().any(|a| a == "--orderings") {
         return;

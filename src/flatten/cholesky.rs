@@ -70,7 +70,7 @@ impl Cholesky {
         let par = Par::rayon(0);
         let req = symbolic
             .factorize_numeric_llt_scratch::<f64>(par, Default::default())
-            .or(symbolic.solve_in_place_scratch::<f64>(2, par));
+            .or(symbolic.solve_in_place_scratch::<f64>(2, Par::Seq));
         let scratch = MemBuffer::try_new(req)
             .map_err(|_| "not enough memory for the factorization".to_string())?;
         let factor = vec![0.0; symbolic.len_val()];
@@ -140,11 +140,15 @@ impl Cholesky {
             return;
         }
         let llt = LltRef::new(&self.symbolic, &self.factor);
-        // The scratch was sized for two columns at a time.
+        // The scratch was sized for two columns at a time. Solves run on one thread:
+        // faer's parallel triangular solve took 40-100 times as long on the
+        // local-global Laplacian of 15k-40k vertices (25 solves of a 120 × 120 quad
+        // bump: 0.96 s against 0.057 s; `bench_flatten -- --crossover`), and the
+        // Newton solves measured the same either way.
         for block in rhs.chunks_mut(2 * n) {
             let k = block.len() / n;
             let mat = MatMut::from_column_major_slice_mut(&mut block[..k * n], n, k);
-            llt.solve_in_place_with_conj(Conj::No, mat, self.par, MemStack::new(&mut self.scratch));
+            llt.solve_in_place_with_conj(Conj::No, mat, Par::Seq, MemStack::new(&mut self.scratch));
         }
     }
 }

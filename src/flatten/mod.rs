@@ -194,9 +194,10 @@ pub struct ChartSolution {
 
 /// The solver [`SolverKind::Auto`] stands for with `energy`, as measured by
 /// `examples/bench_flatten.rs` (README, Performance): Newton for every energy. For
-/// `arap`, local–global is faster on a 10k-quad bump (0.28 s against 0.43 s, same
-/// result) but slower at 100k quads (10.6 s, its 25 back-substitutions costing more
-/// than Newton's few factorizations), so Newton has the better worst case; for
+/// `arap`, local–global takes 0.42–0.79 of Newton's time on smooth bumps of 1.6k to
+/// 157k faces (`-- --crossover`), but it converges linearly: on Spot's islands it
+/// needed up to 149 iterations where Newton needed 13, and a chart that reaches the
+/// iteration limit stops unconverged, so Newton has the better worst case; for
 /// `symmetric-dirichlet` L-BFGS needs 200 iterations where Newton needs 4 from the
 /// conformal start; `conformal` is quadratic, so Newton finishes in one step.
 pub fn auto_solver(energy: EnergyKind) -> SolverKind {
