@@ -311,14 +311,15 @@ fn scaling(large: bool) {
     }
 }
 
-/// Section 5: arap with Newton against local–global by chart size, on the bump disk
-/// and a bump twice as high (local–global slows where the map bends more); each time
-/// the shortest of 3 runs.
+/// Section 5: arap with Newton, local–global and `auto` (local–global handing slow
+/// runs over to Newton) by chart size, on the bump disk, one twice as high and one
+/// seven times as high (local–global slows where the map bends more); each time the
+/// shortest of 3 runs.
 fn crossover() {
     println!("\n## 5. arap: Newton against local–global by chart size\n");
-    println!("| surface | faces | vertices | Newton s | local–global s (iterations) | local–global / Newton |");
-    println!("|---|---|---|---|---|---|");
-    for height in [0.3, 0.6] {
+    println!("| surface | faces | vertices | Newton s | local–global s (iterations) | local–global / Newton | auto s | auto / Newton |");
+    println!("|---|---|---|---|---|---|---|---|");
+    for height in [0.3, 0.6, 2.0] {
         for n in [10, 20, 40, 70, 100, 140, 200, 280] {
             let quads =
                 common::mapped(&bump_disk(n), |p| Point3::new(p.x, p.y, p.z * height / 0.3));
@@ -335,11 +336,13 @@ fn crossover() {
                 };
                 let (newton, _) = best(SolverKind::Newton);
                 let (lg, iterations) = best(SolverKind::LocalGlobal);
+                let (auto, _) = best(SolverKind::Auto);
                 println!(
-                    "| bump {height} {case} | {} | {} | {newton:.4} | {lg:.4} ({iterations}) | {:.2} |",
+                    "| bump {height} {case} | {} | {} | {newton:.4} | {lg:.4} ({iterations}) | {:.2} | {auto:.4} | {:.2} |",
                     mesh.face_count(),
                     mesh.vertex_count(),
-                    lg / newton
+                    lg / newton,
+                    auto / newton
                 );
             }
         }

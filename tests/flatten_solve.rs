@@ -130,11 +130,18 @@ fn developable_surfaces_flatten_nearly_isometrically() {
     // of 1 (the requirement; the residual comes from the faces'
     // non-planarity and chords).
     for (name, mesh) in developable_meshes() {
-        for energy in [EnergyKind::Arap, EnergyKind::SymmetricDirichlet] {
-            let s = solve(&mesh, energy, SolverKind::Newton);
+        for (energy, solver) in [
+            (EnergyKind::Arap, SolverKind::Newton),
+            (EnergyKind::Arap, SolverKind::Auto),
+            (EnergyKind::SymmetricDirichlet, SolverKind::Newton),
+        ] {
+            let s = solve(&mesh, energy, solver);
             let err = max_sigma_error(&mesh, &s.uvs);
-            assert!(err < 2e-3, "{name}, {energy}: σ deviates from 1 by {err}");
-            assert_eq!(s.flipped_faces, 0, "{name}, {energy}");
+            assert!(
+                err < 2e-3,
+                "{name}, {energy}, {solver}: σ deviates from 1 by {err}"
+            );
+            assert_eq!(s.flipped_faces, 0, "{name}, {energy}, {solver}");
         }
     }
 }
@@ -207,6 +214,45 @@ fn symmetric_dirichlet_never_flips_on_a_strongly_curved_patch() {
         assert_history(&format!("dome {solver}"), &s);
         // Above the minimum 4A of an isometry, since the dome is not developable.
         assert!(*s.history.last().unwrap() > 4.0 * area_3d(&dome));
+    }
+}
+
+#[test]
+fn auto_arap_hands_slow_local_global_runs_over_to_newton() {
+    // As the pipeline runs it: default tolerance, least-squares conformal start. On a
+    // bump and a dome local–global stalls within its budget (27 and 25 iterations,
+    // measured) and finishes; on a steeper dome (Newton alone needs 44 steps) its rate
+    // of convergence says it would not, so Newton finishes from where it stopped.
+    // Either way the energy is Newton's own to 1e-6 (measured: 2e-9).
+    let bump = |height: f64| {
+        mapped(&quad_grid(14, 14, 1.0 / 14.0, 0.2), move |p| {
+            let (x, y) = (p.x - 0.5, p.y - 0.5);
+            Point3::new(p.x, p.y, height * (-(x * x + y * y) * 6.0).exp())
+        })
+    };
+    let run = |mesh: &PolyMesh, solver| {
+        let opts = SolveOptions {
+            energy: EnergyKind::Arap,
+            solver,
+            ..SolveOptions::default()
+        };
+        solve_chart(mesh, &opts, Start::Conformal, &Silent).expect("solve")
+    };
+    for (name, height, finisher) in [
+        ("gentle bump", 0.2, SolverKind::LocalGlobal),
+        ("dome", 1.2, SolverKind::LocalGlobal),
+        ("steep dome", 2.0, SolverKind::Newton),
+    ] {
+        let mesh = bump(height);
+        let auto = run(&mesh, SolverKind::Auto);
+        let newton = run(&mesh, SolverKind::Newton);
+        let (a, n) = (auto.history.last().unwrap(), newton.history.last().unwrap());
+        assert_eq!(auto.solver, finisher, "{name}");
+        assert_history(name, &auto);
+        assert!(
+            (a - n).abs() <= 1e-6 * n,
+            "{name}: auto ends at {a}, Newton at {n}"
+        );
     }
 }
 

@@ -14,12 +14,15 @@ use crate::operators::global::laplacian;
 use crate::progress::Progress;
 use rayon::prelude::*;
 
-/// Runs local–global ARAP from `uv` (updated in place) with vertex `pin` fixed.
+/// Runs local–global ARAP from `uv` (updated in place) with vertex `pin` fixed. With
+/// `handoff`, it also stops once its rate of convergence says it will not stall
+/// within that many iterations ([`StopRules::too_slow`]).
 pub(crate) fn run(
     objective: &Objective,
     pin: u32,
     uv: &mut [[f64; 2]],
     stop: &StopRules,
+    handoff: Option<usize>,
     progress: &dyn Progress,
 ) -> Result<Outcome, String> {
     let chart = objective.chart;
@@ -84,7 +87,7 @@ pub(crate) fn run(
         if let Some(p) = previous {
             out.iterations += 1;
             progress.advance(out.iterations as u64);
-            if stop.stalled(p, e) {
+            if stop.stalled(p, e) || handoff.is_some_and(|b| stop.too_slow(&out.history, b)) {
                 break;
             }
         }

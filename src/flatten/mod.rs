@@ -192,21 +192,26 @@ pub struct ChartSolution {
     pub notes: Vec<String>,
 }
 
-/// The solver [`SolverKind::Auto`] stands for with `energy`, as measured by
-/// `examples/bench_flatten.rs` (README, Performance): Newton for every energy. For
-/// `arap`, local–global takes 0.42–0.79 of Newton's time on smooth bumps of 1.6k to
-/// 157k faces (`-- --crossover`), but it converges linearly: on Spot's islands it
-/// needed up to 149 iterations where Newton needed 13, and a chart that reaches the
-/// iteration limit stops unconverged, so Newton has the better worst case; for
-/// `symmetric-dirichlet` L-BFGS needs 200 iterations where Newton needs 4 from the
-/// conformal start; `conformal` is quadratic, so Newton finishes in one step.
+/// The solver [`SolverKind::Auto`] starts with for `energy`, as measured by
+/// `examples/bench_flatten.rs` (README, Performance): local–global for `arap`, Newton
+/// for the others. Local–global takes 0.42–0.79 of Newton's time on smooth bumps of
+/// 1.6k to 157k faces (`-- --crossover`), but it converges linearly (on Spot's islands
+/// it needed up to 149 iterations where Newton needed 13), so `auto` gives it at most
+/// [`LOCAL_GLOBAL_BUDGET`] iterations and finishes with Newton from where it stopped
+/// when it has not converged by then. For `symmetric-dirichlet` L-BFGS needs 200
+/// iterations where Newton needs 4 from the conformal start; `conformal` is
+/// quadratic, so Newton finishes in one step.
 pub fn auto_solver(energy: EnergyKind) -> SolverKind {
     match energy {
-        EnergyKind::Arap | EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => {
-            SolverKind::Newton
-        }
+        EnergyKind::Arap => SolverKind::LocalGlobal,
+        EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => SolverKind::Newton,
     }
 }
+
+/// Local–global iterations `auto` allows for `arap` before it hands over to Newton:
+/// smooth charts converge in 17–28 (`bench_flatten -- --crossover`), so a chart still
+/// going after 40 is one where local–global is slow.
+pub const LOCAL_GLOBAL_BUDGET: usize = 40;
 
 /// Flattens one chart: a disk, or a genus-0 surface with holes, whose faces have any
 /// arity ≥ 3 and need not be planar.
@@ -285,7 +290,7 @@ pub fn solve_chart(
         s => s,
     };
     if solver == SolverKind::LocalGlobal && opts.energy != EnergyKind::Arap {
-        let chosen = auto_solver(opts.energy);
+        let chosen = SolverKind::Newton;
         notes.push(format!(
             "the {} solver works only with arap; used {chosen} for {}",
             SolverKind::LocalGlobal,
@@ -298,17 +303,25 @@ pub fn solve_chart(
         _ => vec![prepared.loops[0][0]],
     };
     let shift = opts.energy != EnergyKind::Conformal;
-    let outcome = run_solver(
-        &objective,
-        solver,
-        &pins,
-        shift,
-        opts,
-        &mut uv,
-        &mut timings,
-        progress,
-    )
-    .map_err(fail)?;
+    let outcome = if opts.solver == SolverKind::Auto && solver == SolverKind::LocalGlobal {
+        let (outcome, finished) =
+            run_with_handoff(&objective, &pins, opts, &mut uv, &mut timings, progress)
+                .map_err(fail)?;
+        solver = finished;
+        outcome
+    } else {
+        run_solver(
+            &objective,
+            solver,
+            &pins,
+            shift,
+            opts,
+            &mut uv,
+            &mut timings,
+            progress,
+        )
+        .map_err(fail)?
+    };
     scale_to_area(&prepared, &mut uv).map_err(fail)?;
     let run = Run {
         outcome,
@@ -479,7 +492,7 @@ fn run_solver(
     progress.begin("flatten", opts.max_iterations as u64);
     let setup_clock = Instant::now();
     let outcome = match solver {
-        SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, progress),
+        SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, None, progress),
         SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
         _ => newton::Newton::new(objective, pins, shift, opts.ordering).and_then(|mut n| {
             timings.setup_ms += ms(setup_clock.elapsed());
@@ -496,6 +509,67 @@ fn run_solver(
     };
     progress.end();
     outcome
+}
+
+/// `auto` for arap: local–global for at most [`LOCAL_GLOBAL_BUDGET`] iterations, then,
+/// if it has not converged (or cannot run), Newton from where it stopped with the
+/// iterations left. Returns both runs as one and the solver that finished.
+fn run_with_handoff(
+    objective: &Objective,
+    pins: &[u32],
+    opts: &SolveOptions,
+    uv: &mut [[f64; 2]],
+    timings: &mut StageTimings,
+    progress: &dyn Progress,
+) -> std::result::Result<(Outcome, SolverKind), String> {
+    let budget = opts.max_iterations.min(LOCAL_GLOBAL_BUDGET);
+    let stop = StopRules {
+        max_iterations: budget,
+        tolerance: opts.tolerance,
+        gradient: opts.tolerance * objective.chart.mean_edge,
+    };
+    let start = uv.to_vec();
+    progress.begin("flatten", opts.max_iterations as u64);
+    let first = local_global::run(objective, pins[0], uv, &stop, Some(budget), progress);
+    progress.end();
+    let first = match first {
+        Ok(o) if converged(&o, &stop) || budget == opts.max_iterations => {
+            return Ok((o, SolverKind::LocalGlobal));
+        }
+        Ok(o) => Some(o),
+        Err(_) => {
+            uv.copy_from_slice(&start);
+            None
+        }
+    };
+    let used = first.as_ref().map_or(0, |o| o.iterations);
+    let rest_opts = SolveOptions {
+        max_iterations: opts.max_iterations - used,
+        ..*opts
+    };
+    let rest = run_solver(
+        objective,
+        SolverKind::Newton,
+        pins,
+        true,
+        &rest_opts,
+        uv,
+        timings,
+        progress,
+    )?;
+    let outcome = match first {
+        Some(first) => first.followed_by(rest),
+        None => rest,
+    };
+    Ok((outcome, SolverKind::Newton))
+}
+
+/// Whether a run stopped because its last iteration stalled.
+fn converged(outcome: &Outcome, stop: &StopRules) -> bool {
+    match outcome.history[..] {
+        [.., before, after] => stop.stalled(before, after),
+        _ => true,
+    }
 }
 
 /// One numeric factorization of a chart's Newton matrix, as measured by

@@ -22,6 +22,26 @@ impl StopRules {
         decrease.is_nan() || decrease <= self.tolerance * before.abs()
     }
 
+    /// Whether a linearly converging run with energies `history` (start first) is
+    /// not on course to stall within `budget` iterations: the last two decreases give
+    /// the rate ρ, and the decrease after `n` more iterations is about `ρⁿ` times the
+    /// last; judged from the sixth iteration on (earlier rates are transient), and
+    /// never when the rate is not in (0, 1).
+    pub fn too_slow(&self, history: &[f64], budget: usize) -> bool {
+        let k = history.len().saturating_sub(1);
+        if k < 6 {
+            return false;
+        }
+        let (a, b, c) = (history[k - 2], history[k - 1], history[k]);
+        let (d1, d2) = (a - b, b - c);
+        let rate = d2 / d1;
+        if !(rate > 0.0 && rate < 1.0) || d2 <= 0.0 {
+            return false;
+        }
+        let more = ((self.tolerance * c.abs()) / d2).ln() / rate.ln();
+        k as f64 + more > budget as f64
+    }
+
     /// True when the largest gradient entry `g_max` is small enough to stop.
     pub fn stationary(&self, g_max: f64) -> bool {
         g_max <= self.gradient
@@ -92,9 +112,55 @@ pub(crate) struct Outcome {
 }
 
 impl Outcome {
+    /// This run and then `next`, which started where this one stopped (its first
+    /// energy, the same as this run's last, is not repeated).
+    pub fn followed_by(mut self, next: Outcome) -> Outcome {
+        self.history.extend(next.history.into_iter().skip(1));
+        self.reached.extend(next.reached.into_iter().skip(1));
+        self.iterations += next.iterations;
+        let (a, b) = (&mut self.clocks, next.clocks);
+        a.setup += b.setup;
+        a.evaluate += b.evaluate;
+        a.assemble += b.assemble;
+        a.factor += b.factor;
+        a.factorizations += b.factorizations;
+        a.solve += b.solve;
+        a.line_search += b.line_search;
+        a.spans.extend(b.spans);
+        self
+    }
+
     /// Records the energy reached now.
     pub fn record(&mut self, energy: f64) {
         self.history.push(energy);
         self.reached.push(Instant::now());
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::StopRules;
+
+    /// Energies `1 + ρ^k`, k = 0..=n: decreases shrink by exactly ρ.
+    fn geometric(rate: f64, n: i32) -> Vec<f64> {
+        (0..=n).map(|k| 1.0 + rate.powi(k)).collect()
+    }
+
+    #[test]
+    fn too_slow_predicts_from_the_rate_of_linear_convergence() {
+        let stop = StopRules {
+            max_iterations: 100,
+            tolerance: 1e-9,
+            gradient: 0.0,
+        };
+        // Rate 0.3: the decrease falls below 1e-9 of the energy about 12 iterations
+        // after the sixth (ln(1e-9 · e₆ / d₆) / ln 0.3 = 11.9), within 40.
+        assert!(!stop.too_slow(&geometric(0.3, 6), 40));
+        // Rate 0.8: about 80 more (79.6), past 40 but within 100.
+        assert!(stop.too_slow(&geometric(0.8, 6), 40));
+        assert!(!stop.too_slow(&geometric(0.8, 6), 100));
+        // Not judged before the sixth iteration, nor when the energy stops falling.
+        assert!(!stop.too_slow(&geometric(0.8, 5), 10));
+        assert!(!stop.too_slow(&[3.0, 2.0, 1.5, 1.25, 1.2, 1.2, 1.2], 10));
     }
 }
