@@ -249,6 +249,19 @@ fn auto_arap_hands_slow_local_global_runs_over_to_newton() {
         let (a, n) = (auto.history.last().unwrap(), newton.history.last().unwrap());
         assert_eq!(auto.solver, finisher, "{name}");
         assert_history(name, &auto);
+        // With no iterations to spare for Newton, local–global keeps them all.
+        let capped = SolveOptions {
+            energy: EnergyKind::Arap,
+            max_iterations: 30,
+            ..SolveOptions::default()
+        };
+        let short = solve_chart(&mesh, &capped, Start::Conformal, &Silent).expect("solve");
+        assert_eq!(short.solver, SolverKind::LocalGlobal, "{name}");
+        assert!(
+            short.iterations == 30 || short.iterations == auto.iterations.min(30),
+            "{name}: {} iterations",
+            short.iterations
+        );
         assert!(
             (a - n).abs() <= 1e-6 * n,
             "{name}: auto ends at {a}, Newton at {n}"

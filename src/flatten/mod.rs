@@ -208,9 +208,10 @@ pub fn auto_solver(energy: EnergyKind) -> SolverKind {
     }
 }
 
-/// Local–global iterations `auto` allows for `arap` before it hands over to Newton:
-/// smooth charts converge in 17–28 (`bench_flatten -- --crossover`), so a chart still
-/// going after 40 is one where local–global is slow.
+/// Local–global iterations `auto` allows for `arap` before it hands over to Newton
+/// (sooner when its rate says it would not stall within them): smooth charts converge
+/// in 17–28 (`bench_flatten -- --crossover`), so a chart still going after 40 is one
+/// where local–global is slow.
 pub const LOCAL_GLOBAL_BUDGET: usize = 40;
 
 /// Flattens one chart: a disk, or a genus-0 surface with holes, whose faces have any
@@ -530,7 +531,9 @@ fn run_with_handoff(
     };
     let start = uv.to_vec();
     progress.begin("flatten", opts.max_iterations as u64);
-    let first = local_global::run(objective, pins[0], uv, &stop, Some(budget), progress);
+    // With no iterations left for Newton, local–global runs to its own end.
+    let handoff = (budget < opts.max_iterations).then_some(budget);
+    let first = local_global::run(objective, pins[0], uv, &stop, handoff, progress);
     progress.end();
     let first = match first {
         Ok(o) if converged(&o, &stop) || budget == opts.max_iterations => {
