@@ -209,7 +209,7 @@ fn flatten_inner(
     let mut stages = Stages::start();
 
     let topology = Topology::build(mesh);
-    let notes = check_mesh(mesh, &topology, input_name)?;
+    let mut notes = check_mesh(mesh, &topology, input_name)?;
     stages.lap("validate");
 
     let mode = seam_mode(mesh, settings);
@@ -225,6 +225,7 @@ fn flatten_inner(
         }
     };
 
+    notes.extend(opened_islands_note(&charts));
     let options = SolveOptions::from_settings(settings, 0);
     progress.begin("flattening charts", charts.len() as u64);
     let mut solved = solve_all(mesh, charts, &options, progress)?;
@@ -276,6 +277,25 @@ fn flatten_inner(
     )?;
     outcome.report.input.notes = notes;
     Ok(outcome)
+}
+
+/// Says how many of the input's UV islands were closed or had a handle and how many
+/// edges were cut inside them to open them (the island count does not change).
+fn opened_islands_note(charts: &[Chart]) -> Option<String> {
+    let opened: Vec<&Chart> = charts
+        .iter()
+        .filter(|c| c.origin == ChartOrigin::Kept && c.extra_seam_edges > 0)
+        .collect();
+    let edges: usize = opened.iter().map(|c| c.extra_seam_edges).sum();
+    match opened.len() {
+        0 => None,
+        1 => Some(format!(
+            "1 UV island is closed or has a handle; polyflat cut {edges} edges inside it so it opens into a disk (seams_added in the report's charts)"
+        )),
+        n => Some(format!(
+            "{n} UV islands are closed or have a handle; polyflat cut {edges} edges inside them so each opens into a disk (seams_added in the report's charts)"
+        )),
+    }
 }
 
 /// One chart in its final place.
@@ -817,6 +837,7 @@ fn chart_report(laid: &PolyMesh, face_metrics: &[FaceMetrics], s: &Laid) -> Char
         bounding_box: BoundingBox { min, max },
         origin: origin_name(s.chart.origin).to_string(),
         mirrored_in_input: s.chart.mirrored_in_input,
+        seams_added: s.chart.extra_seam_edges,
         iterations: s.iterations,
         solver: s.solver.clone(),
         metrics: metrics::summarize(laid, face_metrics, Some(&s.chart.faces)),

@@ -263,6 +263,57 @@ fn spot_keeps_its_thirteen_islands() {
     let outcome = flatten(&mesh, &Settings::default());
     assert_eq!(outcome.report.global.charts, 13);
     assert_whole_layout_is_sound("Spot", &mesh, &outcome, 1024, 4);
+    // Every island is already a disk once its pinched corners are split.
+    assert!(outcome.report.charts.iter().all(|c| c.seams_added == 0));
+}
+
+#[test]
+fn a_closed_island_with_a_handle_is_opened_by_the_shortest_cut_and_reported() {
+    // A 16 × 8 quad torus whose UVs are a planar projection shared by every face: one
+    // closed UV island of genus 1. Opening it needs a loop around the tube (at least
+    // 8 edges) and one around the hole (at least 16): 24 edges at the least, and the
+    // cut found is that short.
+    let (n, m) = (16u32, 8u32);
+    let mut positions = Vec::new();
+    for i in 0..n {
+        for j in 0..m {
+            let a = std::f64::consts::TAU * f64::from(i) / f64::from(n);
+            let b = std::f64::consts::TAU * f64::from(j) / f64::from(m);
+            let r = 1.0 + 0.4 * b.cos();
+            positions.push(Point3::new(r * a.cos(), r * a.sin(), 0.4 * b.sin()));
+        }
+    }
+    let faces: Vec<Vec<u32>> = (0..n)
+        .flat_map(|i| {
+            (0..m).map(move |j| {
+                let at = |i: u32, j: u32| (i % n) * m + j % m;
+                vec![at(i, j), at(i + 1, j), at(i + 1, j + 1), at(i, j + 1)]
+            })
+        })
+        .collect();
+    let mut mesh = PolyMesh::from_faces(positions, &faces);
+    mesh.uvs = mesh
+        .positions
+        .iter()
+        .map(|p| Point2::new((p.x + 1.5) / 3.0, (p.y + 1.5) / 3.0))
+        .collect();
+    mesh.corner_uvs = Some(mesh.face_vertices.clone());
+    let outcome = flatten(&mesh, &Settings::default());
+    let report = &outcome.report;
+    assert_eq!(report.global.charts, 1);
+    assert_eq!(report.charts[0].origin, "kept");
+    assert_eq!(report.charts[0].seams_added, 24);
+    assert!(
+        report
+            .input
+            .notes
+            .iter()
+            .any(|n| n.contains("1 UV island is closed or has a handle; polyflat cut 24 edges")),
+        "notes {:?}",
+        report.input.notes
+    );
+    assert_layout_disks("torus island", &mesh, &outcome);
+    assert_whole_layout_is_sound("torus island", &mesh, &outcome, 1024, 4);
 }
 
 fn flatten(mesh: &PolyMesh, settings: &Settings) -> Outcome {

@@ -93,6 +93,12 @@ pub struct ChartReport {
     pub origin: String,
     /// The input's UVs for this island were mirrored relative to the surface.
     pub mirrored_in_input: bool,
+    /// Mesh edges polyflat cut inside this chart to open it into a disk (a closed
+    /// surface, a handle, or holes joined to the border), beyond the input's seams
+    /// or the automatic segmentation's borders (0 when read from a report that
+    /// predates it).
+    #[serde(default)]
+    pub seams_added: usize,
     /// Solver iterations spent on this chart.
     pub iterations: usize,
     /// The solver that ran.
