@@ -601,12 +601,12 @@ fn aspect(uvs: &[Point2<f64>]) -> f64 {
 }
 
 fn needs_split(mesh: &PolyMesh, s: &Solved, max_stretch: f64) -> bool {
-    splittable(s) && !check_layout(mesh, s).is_some_and(|c| c.clean_within(max_stretch))
+    splittable(s) && !flattens_within(mesh, s, max_stretch)
 }
 
-/// Whether a splittable chart still folds or overlaps itself.
+/// Whether a splittable chart still folds or overlaps itself (at any stretch).
 fn needs_repair(mesh: &PolyMesh, s: &Solved) -> bool {
-    splittable(s) && !check_layout(mesh, s).is_some_and(|c| c.clean_within(f64::INFINITY))
+    splittable(s) && !flattens_within(mesh, s, f64::INFINITY)
 }
 
 fn splittable(s: &Solved) -> bool {
@@ -616,39 +616,18 @@ fn splittable(s: &Solved) -> bool {
 /// Whether a solved chart's L2 stretch is at most `limit` with no fold and no
 /// self-overlap.
 fn flattens_within(mesh: &PolyMesh, s: &Solved, limit: f64) -> bool {
-    check_layout(mesh, s).is_some_and(|c| c.clean_within(limit))
-}
-
-/// What decides whether a flattened chart is kept as it is.
-struct LayoutCheck {
-    stretch_l2: f64,
-    overlapping_face_pairs: usize,
-    flipped_faces: usize,
-}
-
-impl LayoutCheck {
-    fn clean_within(&self, limit: f64) -> bool {
-        self.stretch_l2 <= limit && self.overlapping_face_pairs == 0 && self.flipped_faces == 0
-    }
-}
-
-/// L2 stretch, overlaps and folds of one solved chart (`None` when its metrics
-/// cannot be computed).
-fn check_layout(mesh: &PolyMesh, s: &Solved) -> Option<LayoutCheck> {
     let chart_mesh = s.chart.mesh(mesh);
     let corners = &chart_mesh.face_vertices;
-    let fm = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners).ok()?;
+    let Ok(fm) = metrics::face_metrics(&chart_mesh, &s.solution.uvs, corners) else {
+        return false;
+    };
     let laid = PolyMesh {
         uvs: s.solution.uvs.clone(),
         corner_uvs: Some(corners.clone()),
         ..chart_mesh
     };
     let m = metrics::summarize(&laid, &fm, None);
-    Some(LayoutCheck {
-        stretch_l2: m.stretch_l2,
-        overlapping_face_pairs: m.overlapping_face_pairs,
-        flipped_faces: m.flipped_faces,
-    })
+    m.stretch_l2 <= limit && m.overlapping_face_pairs == 0 && m.flipped_faces == 0
 }
 
 /// How much of its minimum-area enclosing rectangle a flattened chart covers (UV
