@@ -303,14 +303,10 @@ fn a_closed_island_with_a_handle_is_opened_by_the_shortest_cut_and_reported() {
     assert_eq!(report.global.charts, 1);
     assert_eq!(report.charts[0].origin, "kept");
     assert_eq!(report.charts[0].seams_added, 24);
-    assert!(
-        report
-            .input
-            .notes
-            .iter()
-            .any(|n| n.contains("1 UV island is closed or has a handle; polyflat cut 24 edges")),
-        "notes {:?}",
-        report.input.notes
+    assert_note(
+        "torus island",
+        &outcome,
+        "1 UV island is closed or has a handle; polyflat cut 24 edges",
     );
     assert_layout_disks("torus island", &mesh, &outcome);
     assert_whole_layout_is_sound("torus island", &mesh, &outcome, 1024, 4);
@@ -318,6 +314,15 @@ fn a_closed_island_with_a_handle_is_opened_by_the_shortest_cut_and_reported() {
 
 fn flatten(mesh: &PolyMesh, settings: &Settings) -> Outcome {
     pipeline::flatten(mesh, "test.obj", settings, &Silent).expect("flatten")
+}
+
+/// Asserts that one of the report's `input.notes` contains `text`.
+fn assert_note(name: &str, outcome: &Outcome, text: &str) {
+    let notes = &outcome.report.input.notes;
+    assert!(
+        notes.iter().any(|n| n.contains(text)),
+        "{name}: no note with {text:?} in {notes:?}"
+    );
 }
 
 /// Boundary segments of every chart of the packed layout, in UV.
@@ -466,11 +471,7 @@ fn non_manifold_and_inconsistently_wound_meshes_are_cut_not_refused() {
     ] {
         let outcome = flatten(mesh, &Settings::default());
         let report = &outcome.report;
-        assert!(
-            report.input.notes.iter().any(|n| n.contains(notes)),
-            "{name}: notes {:?}",
-            report.input.notes
-        );
+        assert_note(name, &outcome, notes);
         assert_disks(name, mesh, &auto_charts(mesh));
         assert_whole_layout_is_sound(name, mesh, &outcome, 1024, 4);
         // Planar pieces flatten exactly (stretch 1 to 1e-6).
@@ -513,15 +514,7 @@ fn charts_that_still_overlap_after_the_stretch_splits_are_split_until_they_do_no
     let mesh = holey_bumpy_sphere();
     let outcome = flatten(&mesh, &Settings::default());
     let report = &outcome.report;
-    assert!(
-        report
-            .input
-            .notes
-            .iter()
-            .any(|n| n.contains("non-manifold")),
-        "notes {:?}",
-        report.input.notes
-    );
+    assert_note("holey sphere", &outcome, "non-manifold");
     assert_whole_layout_is_sound("holey sphere", &mesh, &outcome, 1024, 4);
     assert_layout_disks("holey sphere", &mesh, &outcome);
     assert!(
