@@ -242,6 +242,7 @@ fn flatten_inner(
     }
     for (id, s) in solved.iter_mut().enumerate() {
         s.id = id;
+        notes.extend(s.solution.notes.iter().map(|n| format!("chart {id}: {n}")));
     }
 
     progress.begin("packing", 0);

@@ -112,3 +112,32 @@ fn conformal_start_is_a_similarity_on_planar_charts() {
         assert!(err < 1e-9, "{name}: σ deviates from 1 by {err}");
     }
 }
+
+#[test]
+fn a_start_replaced_by_tutte_is_said_in_the_report_notes() {
+    // A steep dome kept as one UV island: its least-squares conformal map folds 8 faces
+    // (measured), which symmetric Dirichlet cannot start from, so the chart starts from
+    // the Tutte embedding; the report's input.notes must say so for that chart.
+    let mut dome = mapped(&quad_grid(14, 14, 1.0 / 14.0, 0.2), |p| {
+        let (x, y) = (p.x - 0.5, p.y - 0.5);
+        nalgebra::Point3::new(p.x, p.y, 2.0 * (-(x * x + y * y) * 6.0).exp())
+    });
+    dome.uvs = dome
+        .positions
+        .iter()
+        .map(|p| Point2::new(p.x, p.y))
+        .collect();
+    dome.corner_uvs = Some(dome.face_vertices.clone());
+    let settings = polyflat::settings::Settings::default();
+    let outcome =
+        polyflat::pipeline::flatten(&dome, "dome.obj", &settings, &Silent).expect("flatten");
+    let notes = &outcome.report.input.notes;
+    assert!(
+        notes.iter().any(
+            |n| n.starts_with("chart 0: the conformal start flips 8 faces")
+                && n.contains("started from the Tutte embedding")
+        ),
+        "{notes:?}"
+    );
+    assert_eq!(outcome.report.global.metrics.flipped_faces, 0);
+}
