@@ -69,6 +69,8 @@ named_enum! {
         Lbfgs => "lbfgs",
         /// Local–global alternation (ARAP only).
         LocalGlobal => "local-global",
+        /// Limited-memory BFGS whose initial inverse Hessian is the factored Laplacian.
+        LaplacianLbfgs => "laplacian-lbfgs",
     }
 }
 

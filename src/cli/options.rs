@@ -16,8 +16,10 @@ pub struct FlattenOptions {
     /// Distortion energy to minimise [default: symmetric-dirichlet].
     #[arg(long, value_name = "ENERGY", value_parser = named::<EnergyKind>(EnergyKind::ALL.iter().map(|v| v.as_str())))]
     pub energy: Option<EnergyKind>,
-    /// Optimiser: auto (Newton; for arap, local–global handing slow charts over to
-    /// Newton), newton, lbfgs, or local-global (arap only) [default: auto].
+    /// Optimiser: auto (a solver with cheap iterations, local–global for arap and
+    /// laplacian-lbfgs for symmetric-dirichlet, handing slow charts over to Newton;
+    /// Newton for conformal), newton, lbfgs, laplacian-lbfgs (L-BFGS started from the
+    /// factored Laplacian), or local-global (arap only) [default: auto].
     #[arg(long, value_name = "SOLVER", value_parser = named::<SolverKind>(SolverKind::ALL.iter().map(|v| v.as_str())))]
     pub solver: Option<SolverKind>,
     /// Weight of the penalty on the polygon gradient's null space [default: 1].

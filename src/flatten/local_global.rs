@@ -5,12 +5,11 @@
 //! polygon Laplacian `L(λ)` (DESIGN §1) as matrix: it is factored once per chart, and
 //! each iteration is one solve with two right-hand sides (u and v).
 
-use super::assembly::{gradient_gather, Dofs, PINNED};
-use super::cholesky::Cholesky;
+use super::assembly::gradient_gather;
 use super::energy::{closest_rotation, Energy};
+use super::laplacian_system::PinnedLaplacian;
 use super::objective::Objective;
 use super::stopping::{timed, Outcome, StopRules};
-use crate::operators::global::laplacian;
 use crate::progress::Progress;
 use rayon::prelude::*;
 
@@ -27,57 +26,11 @@ pub(crate) fn run(
 ) -> Result<Outcome, String> {
     let chart = objective.chart;
     let mut out = Outcome::default();
-    let dofs = Dofs::new(chart.vertex_count(), &[pin]);
-    let free = dofs.free;
-    let l = timed(&mut out.clocks.setup, || {
-        laplacian(chart.mesh, chart.lambda)
-    })
-    .map_err(|e| format!("cannot assemble L(λ): {e}"))?;
-    // Lower triangle over free vertices, and the pinned vertex's column.
-    let mut col_ptr = vec![0usize];
-    let mut row_idx = Vec::new();
-    let mut values = Vec::new();
-    let mut pinned_column = vec![0.0; free];
-    let mut columns: Vec<(usize, usize)> = (0..chart.vertex_count())
-        .filter(|&v| dofs.index[v] != PINNED)
-        .map(|v| (dofs.index[v] as usize, v))
-        .collect();
-    columns.sort_unstable();
-    for &(k, v) in &columns {
-        let rows = l.row_idx_of_col_raw(v);
-        let vals = l.val_of_col(v);
-        let mut entries: Vec<(usize, f64)> = Vec::new();
-        for (r, &x) in rows.iter().zip(vals) {
-            let kr = dofs.index[*r];
-            if kr == PINNED {
-                pinned_column[k] += x;
-            } else if kr as usize >= k {
-                entries.push((kr as usize, x));
-            }
-        }
-        entries.sort_unstable_by_key(|e| e.0);
-        for (r, x) in entries {
-            row_idx.push(r);
-            values.push(x);
-        }
-        col_ptr.push(row_idx.len());
-    }
-    let mut cholesky = timed(&mut out.clocks.setup, || {
-        Cholesky::analyse(free, &col_ptr, &row_idx)
-    })?;
-    out.clocks.factorizations += 1;
-    if free > 0
-        && !timed(&mut out.clocks.factor, || {
-            cholesky.factor(&col_ptr, &row_idx, &values)
-        })
-    {
-        return Err("the Laplacian L(λ) is not positive definite; is a face degenerate?".into());
-    }
-    let gather = gradient_gather(chart, &dofs)?;
-    let pinned_uv = uv[pin as usize];
+    let mut system = PinnedLaplacian::new(chart, &[pin], &mut out.clocks)?;
+    let free = system.dofs.free;
+    let gather = gradient_gather(chart, &system.dofs)?;
     let mut rhs_buf = vec![0.0; 2 * chart.mesh.corner_count()];
     let mut rhs = vec![0.0; 2 * free];
-    let mut columns_rhs = vec![0.0; 2 * free];
     let mut previous: Option<f64> = None;
     loop {
         let e = timed(&mut out.clocks.evaluate, || {
@@ -87,7 +40,7 @@ pub(crate) fn run(
         if let Some(p) = previous {
             out.iterations += 1;
             progress.advance(out.iterations as u64);
-            if stop.stalled(p, e) || handoff.is_some_and(|b| stop.too_slow(&out.history, b)) {
+            if stop.stalled(p, e) || handoff.is_some_and(|b| stop.too_slow(&out.history, b, 1)) {
                 break;
             }
         }
@@ -98,18 +51,10 @@ pub(crate) fn run(
             gather.apply(&rhs_buf, &mut rhs)
         });
         timed(&mut out.clocks.solve, || {
-            for k in 0..free {
-                columns_rhs[k] = rhs[2 * k] - pinned_column[k] * pinned_uv[0];
-                columns_rhs[free + k] = rhs[2 * k + 1] - pinned_column[k] * pinned_uv[1];
-            }
-            cholesky.solve(&mut columns_rhs);
+            system.move_pins_right(uv, &mut rhs);
+            system.solve(&mut rhs);
         });
-        for (v, p) in uv.iter_mut().enumerate() {
-            let k = dofs.index[v];
-            if k != PINNED {
-                *p = [columns_rhs[k as usize], columns_rhs[free + k as usize]];
-            }
-        }
+        system.dofs.scatter(&rhs, uv);
         previous = Some(e);
     }
     Ok(out)

@@ -22,11 +22,13 @@ mod assembly;
 mod chart;
 mod cholesky;
 mod initial;
+mod laplacian_system;
 mod lbfgs;
 mod local_global;
 mod newton;
 mod objective;
 mod ordering;
+mod preconditioned;
 mod stopping;
 
 use crate::error::{Error, Result};
@@ -193,26 +195,29 @@ pub struct ChartSolution {
 }
 
 /// The solver [`SolverKind::Auto`] starts with for `energy`, as measured by
-/// `examples/bench_flatten.rs` (README, Performance): local–global for `arap`, Newton
-/// for the others. Local–global takes 0.42–0.79 of Newton's time on smooth bumps of
-/// 1.6k to 157k faces (`-- --crossover`), but it converges linearly (on Spot's islands
-/// it needed up to 149 iterations where Newton needed 13), so `auto` gives it at most
-/// [`LOCAL_GLOBAL_BUDGET`] iterations and finishes with Newton from where it stopped
-/// when it has not converged by then. For `symmetric-dirichlet` L-BFGS needs 200
-/// iterations where Newton needs 4 from the conformal start; `conformal` is
-/// quadratic, so Newton finishes in one step.
+/// `examples/bench_flatten.rs -- --crossover` (README, Performance): a solver whose
+/// iterations are cheap because its matrix `L(λ)` is factored once (local–global for
+/// `arap`, Laplacian-preconditioned L-BFGS for `symmetric-dirichlet`), for at most
+/// [`CHEAP_BUDGET`] iterations; a chart it has not converged by then (or sooner,
+/// when its rate of convergence says it would not, or when it stalls against the
+/// flip bound) is finished by Newton from where it stopped. On smooth charts the
+/// cheap solvers converge in 12–28 iterations, taking 0.4–0.8 of Newton's time, and
+/// per-face work, which a quad mesh halves, is a larger share of their time than of
+/// Newton's. `conformal` is quadratic, so Newton finishes in one step.
 pub fn auto_solver(energy: EnergyKind) -> SolverKind {
     match energy {
         EnergyKind::Arap => SolverKind::LocalGlobal,
-        EnergyKind::SymmetricDirichlet | EnergyKind::Conformal => SolverKind::Newton,
+        EnergyKind::SymmetricDirichlet => SolverKind::LaplacianLbfgs,
+        EnergyKind::Conformal => SolverKind::Newton,
     }
 }
 
-/// Local–global iterations `auto` allows for `arap` before it hands over to Newton
-/// (sooner when its rate says it would not stall within them): smooth charts converge
-/// in 17–28 (`bench_flatten -- --crossover`), so a chart still going after 40 is one
-/// where local–global is slow.
-pub const LOCAL_GLOBAL_BUDGET: usize = 40;
+/// Iterations `auto` allows its first solver (local–global, Laplacian-preconditioned
+/// L-BFGS) before it hands over to Newton (sooner when its rate says it would not
+/// stall within them): smooth charts converge in 12–28 (`bench_flatten --
+/// --crossover`), so a chart still going after 40 is one where the cheap solver is
+/// slow.
+pub const CHEAP_BUDGET: usize = 40;
 
 /// Flattens one chart: a disk, or a genus-0 surface with holes, whose faces have any
 /// arity ≥ 3 and need not be planar.
@@ -304,10 +309,17 @@ pub fn solve_chart(
         _ => vec![prepared.loops[0][0]],
     };
     let shift = opts.energy != EnergyKind::Conformal;
-    let outcome = if opts.solver == SolverKind::Auto && solver == SolverKind::LocalGlobal {
-        let (outcome, finished) =
-            run_with_handoff(&objective, &pins, opts, &mut uv, &mut timings, progress)
-                .map_err(fail)?;
+    let outcome = if opts.solver == SolverKind::Auto && solver != SolverKind::Newton {
+        let (outcome, finished) = run_with_handoff(
+            &objective,
+            solver,
+            &pins,
+            opts,
+            &mut uv,
+            (&mut timings, &mut notes),
+            progress,
+        )
+        .map_err(fail)?;
         solver = finished;
         outcome
     } else {
@@ -324,6 +336,7 @@ pub fn solve_chart(
         .map_err(fail)?
     };
     scale_to_area(&prepared, &mut uv).map_err(fail)?;
+    blocked_note(solver, &outcome, &mut notes);
     let run = Run {
         outcome,
         solver,
@@ -343,7 +356,7 @@ pub fn solve_chart(
 /// Unlike [`solve_chart`] the result is not rescaled: give `start` at the scale the
 /// energy should see (UV area about the 3D area). With no held vertex this is a
 /// warm-started solve with one pin. Local–global is replaced by Newton (it holds a
-/// single pin only); L-BFGS and Newton are used as chosen.
+/// single pin only); `auto` means Newton; the other solvers are used as chosen.
 ///
 /// Errors as [`solve_chart`], and when a held index is past the chart's vertices or,
 /// for a barrier energy, when `start` flips a face (the caller decides what else to
@@ -389,6 +402,7 @@ pub fn solve_chart_held(
     let mut notes = Vec::new();
     let solver = match opts.solver {
         SolverKind::Lbfgs => SolverKind::Lbfgs,
+        SolverKind::LaplacianLbfgs => SolverKind::LaplacianLbfgs,
         SolverKind::LocalGlobal => {
             notes.push(format!(
                 "the {} solver holds one vertex only; used {} to hold {}",
@@ -419,6 +433,7 @@ pub fn solve_chart_held(
         progress,
     )
     .map_err(fail)?;
+    blocked_note(solver, &outcome, &mut notes);
     let run = Run {
         outcome,
         solver,
@@ -495,6 +510,9 @@ fn run_solver(
     let outcome = match solver {
         SolverKind::LocalGlobal => local_global::run(objective, pins[0], uv, &stop, None, progress),
         SolverKind::Lbfgs => lbfgs::run(objective, pins, uv, &stop, progress),
+        SolverKind::LaplacianLbfgs => {
+            preconditioned::run(objective, pins, uv, &stop, None, progress)
+        }
         _ => newton::Newton::new(objective, pins, shift, opts.ordering).and_then(|mut n| {
             timings.setup_ms += ms(setup_clock.elapsed());
             let (analysis_began, analysis_ended) = n.analysis_span();
@@ -512,18 +530,19 @@ fn run_solver(
     outcome
 }
 
-/// `auto` for arap: local–global for at most [`LOCAL_GLOBAL_BUDGET`] iterations, then,
+/// `auto` for arap: local–global for at most [`CHEAP_BUDGET`] iterations, then,
 /// if it has not converged (or cannot run), Newton from where it stopped with the
 /// iterations left. Returns both runs as one and the solver that finished.
 fn run_with_handoff(
     objective: &Objective,
+    first: SolverKind,
     pins: &[u32],
     opts: &SolveOptions,
     uv: &mut [[f64; 2]],
-    timings: &mut StageTimings,
+    (timings, notes): (&mut StageTimings, &mut Vec<String>),
     progress: &dyn Progress,
 ) -> std::result::Result<(Outcome, SolverKind), String> {
-    let budget = opts.max_iterations.min(LOCAL_GLOBAL_BUDGET);
+    let budget = opts.max_iterations.min(CHEAP_BUDGET);
     let stop = StopRules {
         max_iterations: budget,
         tolerance: opts.tolerance,
@@ -533,14 +552,22 @@ fn run_with_handoff(
     progress.begin("flatten", opts.max_iterations as u64);
     // With no iterations left for Newton, local–global runs to its own end.
     let handoff = (budget < opts.max_iterations).then_some(budget);
-    let first = local_global::run(objective, pins[0], uv, &stop, handoff, progress);
+    let run = if first == SolverKind::LocalGlobal {
+        local_global::run(objective, pins[0], uv, &stop, handoff, progress)
+    } else {
+        preconditioned::run(objective, pins, uv, &stop, handoff, progress)
+    };
     progress.end();
-    let first = match first {
-        Ok(o) if converged(&o, &stop) || budget == opts.max_iterations => {
-            return Ok((o, SolverKind::LocalGlobal));
+    let first = match run {
+        Ok(o) if (converged(&o, &stop) && !o.cut_short) || budget == opts.max_iterations => {
+            return Ok((o, first));
         }
         Ok(o) => Some(o),
-        Err(_) => {
+        Err(e) => {
+            notes.push(format!(
+                "{first} could not run ({e}); {} flattened the chart from its start",
+                SolverKind::Newton
+            ));
             uv.copy_from_slice(&start);
             None
         }
@@ -565,6 +592,18 @@ fn run_with_handoff(
         None => rest,
     };
     Ok((outcome, SolverKind::Newton))
+}
+
+/// Says so in `notes` when the finishing solver stopped on a step its line search had
+/// to shorten against the flip bound: that stall is not convergence.
+fn blocked_note(solver: SolverKind, outcome: &Outcome, notes: &mut Vec<String>) {
+    if outcome.cut_short {
+        notes.push(format!(
+            "{solver} stopped against the flip bound before the energy converged; {} or {} finish such charts",
+            SolverKind::Auto,
+            SolverKind::Newton
+        ));
+    }
 }
 
 /// Whether a run stopped because its last iteration stalled.

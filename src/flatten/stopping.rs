@@ -23,22 +23,27 @@ impl StopRules {
     }
 
     /// Whether a linearly converging run with energies `history` (start first) is
-    /// not on course to stall within `budget` iterations: the last two decreases give
-    /// the rate ρ, and the decrease after `n` more iterations is about `ρⁿ` times the
+    /// not on course to stall within `budget` iterations: the decreases over the last
+    /// `window` iterations and over the `window` before give the rate ρ per
+    /// iteration, and the decrease after `n` more iterations is about `ρⁿ` times the
     /// last; judged from the sixth iteration on (earlier rates are transient), and
-    /// never when the rate is not in (0, 1).
-    pub fn too_slow(&self, history: &[f64], budget: usize) -> bool {
+    /// never when the rate is not in (0, 1). A window of one suits methods whose
+    /// decreases shrink steadily (local–global); quasi-Newton decreases jump from one
+    /// iteration to the next, so they are judged over a wider window.
+    pub fn too_slow(&self, history: &[f64], budget: usize, window: usize) -> bool {
         let k = history.len().saturating_sub(1);
-        if k < 6 {
+        let w = window.max(1);
+        if k < 6.max(2 * w) {
             return false;
         }
-        let (a, b, c) = (history[k - 2], history[k - 1], history[k]);
+        let (a, b, c) = (history[k - 2 * w], history[k - w], history[k]);
         let (d1, d2) = (a - b, b - c);
-        let rate = d2 / d1;
-        if !(rate > 0.0 && rate < 1.0) || d2 <= 0.0 {
+        let rate = (d2 / d1).powf(1.0 / w as f64);
+        let last = history[k - 1] - c;
+        if !(rate > 0.0 && rate < 1.0) || d2 <= 0.0 || last <= 0.0 {
             return false;
         }
-        let more = ((self.tolerance * c.abs()) / d2).ln() / rate.ln();
+        let more = ((self.tolerance * c.abs()) / last).ln() / rate.ln();
         k as f64 + more > budget as f64
     }
 
@@ -109,6 +114,9 @@ pub(crate) struct Outcome {
     pub iterations: usize,
     /// Time per stage.
     pub clocks: Clocks,
+    /// The run stopped on a step that the flip bound shortened (a face about to
+    /// flip): a stall there is not convergence.
+    pub cut_short: bool,
 }
 
 impl Outcome {
@@ -118,6 +126,7 @@ impl Outcome {
         self.history.extend(next.history.into_iter().skip(1));
         self.reached.extend(next.reached.into_iter().skip(1));
         self.iterations += next.iterations;
+        self.cut_short = next.cut_short;
         let (a, b) = (&mut self.clocks, next.clocks);
         a.setup += b.setup;
         a.evaluate += b.evaluate;
@@ -155,12 +164,35 @@ mod tests {
         };
         // Rate 0.3: the decrease falls below 1e-9 of the energy about 12 iterations
         // after the sixth (ln(1e-9 · e₆ / d₆) / ln 0.3 = 11.9), within 40.
-        assert!(!stop.too_slow(&geometric(0.3, 6), 40));
+        assert!(!stop.too_slow(&geometric(0.3, 6), 40, 1));
         // Rate 0.8: about 80 more (79.6), past 40 but within 100.
-        assert!(stop.too_slow(&geometric(0.8, 6), 40));
-        assert!(!stop.too_slow(&geometric(0.8, 6), 100));
+        assert!(stop.too_slow(&geometric(0.8, 6), 40, 1));
+        assert!(!stop.too_slow(&geometric(0.8, 6), 100, 1));
         // Not judged before the sixth iteration, nor when the energy stops falling.
-        assert!(!stop.too_slow(&geometric(0.8, 5), 10));
-        assert!(!stop.too_slow(&[3.0, 2.0, 1.5, 1.25, 1.2, 1.2, 1.2], 10));
+        assert!(!stop.too_slow(&geometric(0.8, 5), 10, 1));
+        assert!(!stop.too_slow(&[3.0, 2.0, 1.5, 1.25, 1.2, 1.2, 1.2], 10, 1));
+    }
+
+    #[test]
+    fn a_wider_window_judges_uneven_decreases_by_their_trend() {
+        let stop = StopRules {
+            max_iterations: 100,
+            tolerance: 1e-9,
+            gradient: 0.0,
+        };
+        // Decreases 1, 0.1, 0.1, 0.01, 0.01, 0.001, 0.001 (energies above 1): over
+        // one iteration the last rate is 1, which says nothing; over two it is
+        // 0.1 per two iterations (√0.1 = 0.32 per iteration), so the last decrease
+        // (1e-3) falls below 1e-9 of the energy (1) in ln(1e-6) / ln(0.32) = 12 more
+        // iterations: 19 in all.
+        let decreases = [1.0, 0.1, 0.1, 0.01, 0.01, 0.001, 0.001];
+        let mut history = vec![1.0 + decreases.iter().sum::<f64>()];
+        for d in decreases {
+            history.push(history[history.len() - 1] - d);
+        }
+        assert!(!stop.too_slow(&history, 40, 2));
+        assert!(stop.too_slow(&history, 18, 2));
+        // Not judged before two whole windows have passed.
+        assert!(!stop.too_slow(&history, 1, 4));
     }
 }
