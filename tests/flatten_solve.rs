@@ -28,6 +28,26 @@ fn solve(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind) -> ChartSoluti
         .unwrap_or_else(|e| panic!("{energy} with {solver}: {e}"))
 }
 
+/// Solves as the pipeline does: default tolerance and iteration cap, least-squares
+/// conformal start.
+fn as_pipeline(mesh: &PolyMesh, energy: EnergyKind, solver: SolverKind) -> ChartSolution {
+    let opts = SolveOptions {
+        energy,
+        solver,
+        ..SolveOptions::default()
+    };
+    solve_chart(mesh, &opts, Start::Conformal, &Silent).expect("solve")
+}
+
+/// `n × n` quads on the unit square (corners jittered by `jitter` of a cell) lifted
+/// onto the bump `height · exp(−falloff r²)` about the centre.
+fn bump(n: usize, jitter: f64, height: f64, falloff: f64) -> PolyMesh {
+    mapped(&quad_grid(n, n, 1.0 / n as f64, jitter), |p| {
+        let (x, y) = (p.x - 0.5, p.y - 0.5);
+        Point3::new(p.x, p.y, height * (-(x * x + y * y) * falloff).exp())
+    })
+}
+
 fn assert_history(name: &str, s: &ChartSolution) {
     assert_eq!(
         s.history.len(),
@@ -209,10 +229,7 @@ fn symmetric_dirichlet_never_flips_on_a_strongly_curved_patch() {
     // A dome far from developable: ARAP and the conformal map may flip faces here, the
     // barrier energy must not (Smith & Schaefer 2015), and each face's fan triangles
     // stay positive (checked by flipped_faces).
-    let dome = mapped(&quad_grid(14, 14, 1.0 / 14.0, 0.2), |p| {
-        let (x, y) = (p.x - 0.5, p.y - 0.5);
-        Point3::new(p.x, p.y, 1.2 * (-(x * x + y * y) * 6.0).exp())
-    });
+    let dome = bump(14, 0.2, 1.2, 6.0);
     for solver in [
         SolverKind::Newton,
         SolverKind::Lbfgs,
@@ -238,26 +255,13 @@ fn auto_arap_hands_slow_local_global_runs_over_to_newton() {
     // measured) and finishes; on a steeper dome (Newton alone needs 44 steps) its rate
     // of convergence says it would not, so Newton finishes from where it stopped.
     // Either way the energy is Newton's own to 1e-6 (measured: 2e-9).
-    let bump = |height: f64| {
-        mapped(&quad_grid(14, 14, 1.0 / 14.0, 0.2), move |p| {
-            let (x, y) = (p.x - 0.5, p.y - 0.5);
-            Point3::new(p.x, p.y, height * (-(x * x + y * y) * 6.0).exp())
-        })
-    };
-    let run = |mesh: &PolyMesh, solver| {
-        let opts = SolveOptions {
-            energy: EnergyKind::Arap,
-            solver,
-            ..SolveOptions::default()
-        };
-        solve_chart(mesh, &opts, Start::Conformal, &Silent).expect("solve")
-    };
+    let run = |mesh: &PolyMesh, solver| as_pipeline(mesh, EnergyKind::Arap, solver);
     for (name, height, finisher) in [
         ("gentle bump", 0.2, SolverKind::LocalGlobal),
         ("dome", 1.2, SolverKind::LocalGlobal),
         ("steep dome", 2.0, SolverKind::Newton),
     ] {
-        let mesh = bump(height);
+        let mesh = bump(14, 0.2, height, 6.0);
         let auto = run(&mesh, SolverKind::Auto);
         let newton = run(&mesh, SolverKind::Newton);
         let (a, n) = (auto.history.last().unwrap(), newton.history.last().unwrap());
@@ -293,27 +297,14 @@ fn auto_symmetric_dirichlet_finishes_with_newton_where_the_preconditioned_lbfgs_
     // to 1e-6 (measured: at most 7e-11) and no face flips; the preconditioned L-BFGS
     // alone gets there too, in 35 and 46 iterations on the domes (measured: within
     // 3e-9 of Newton).
-    let bump = |height: f64| {
-        mapped(&quad_grid(14, 14, 1.0 / 14.0, 0.2), move |p| {
-            let (x, y) = (p.x - 0.5, p.y - 0.5);
-            Point3::new(p.x, p.y, height * (-(x * x + y * y) * 6.0).exp())
-        })
-    };
-    let run = |mesh: &PolyMesh, solver| {
-        let opts = SolveOptions {
-            energy: EnergyKind::SymmetricDirichlet,
-            solver,
-            ..SolveOptions::default()
-        };
-        solve_chart(mesh, &opts, Start::Conformal, &Silent).expect("solve")
-    };
+    let run = |mesh: &PolyMesh, solver| as_pipeline(mesh, EnergyKind::SymmetricDirichlet, solver);
     for (name, height, finisher) in [
         ("gentle bump", 0.2, SolverKind::LaplacianLbfgs),
         ("bump", 0.5, SolverKind::LaplacianLbfgs),
         ("dome", 1.2, SolverKind::Newton),
         ("steep dome", 2.0, SolverKind::Newton),
     ] {
-        let mesh = bump(height);
+        let mesh = bump(14, 0.2, height, 6.0);
         let auto = run(&mesh, SolverKind::Auto);
         let newton = run(&mesh, SolverKind::Newton);
         let pure = run(&mesh, SolverKind::LaplacianLbfgs);
@@ -337,18 +328,8 @@ fn laplacian_lbfgs_says_when_it_stops_against_the_flip_bound() {
     // the flip bound shortens its steps, far above the minimum (measured: energy 273
     // after 47 iterations against Newton's 22.34). Such a stop must be said in the
     // chart's notes, and `auto` must not stop there: Newton finishes.
-    let mesh = mapped(&quad_grid(70, 70, 1.0 / 70.0, 0.15), |p| {
-        let (x, y) = (p.x - 0.5, p.y - 0.5);
-        Point3::new(p.x, p.y, 2.0 * (-(x * x + y * y) * 8.0).exp())
-    });
-    let run = |solver| {
-        let opts = SolveOptions {
-            energy: EnergyKind::SymmetricDirichlet,
-            solver,
-            ..SolveOptions::default()
-        };
-        solve_chart(&mesh, &opts, Start::Conformal, &Silent).expect("solve")
-    };
+    let mesh = bump(70, 0.15, 2.0, 8.0);
+    let run = |solver| as_pipeline(&mesh, EnergyKind::SymmetricDirichlet, solver);
     let pure = run(SolverKind::LaplacianLbfgs);
     assert!(
         pure.notes
@@ -587,10 +568,7 @@ fn every_fill_reducing_ordering_gives_the_same_layout() {
     // A bump on a 24 × 24 quad grid (576 faces, 625 vertices: the dissection splits
     // it several times before its 64-vertex leaves). The ordering only permutes the
     // Newton system, so the layouts agree to round-off.
-    let mesh = mapped(&quad_grid(24, 24, 1.0 / 24.0, 0.2), |p| {
-        let (x, y) = (p.x - 0.5, p.y - 0.5);
-        Point3::new(p.x, p.y, 0.3 * (-(x * x + y * y) * 8.0).exp())
-    });
+    let mesh = bump(24, 0.2, 0.3, 8.0);
     let solve_with = |ordering: Ordering| {
         let opts = SolveOptions {
             ordering,
