@@ -530,9 +530,11 @@ fn run_solver(
     outcome
 }
 
-/// `auto` for arap: local–global for at most [`CHEAP_BUDGET`] iterations, then,
-/// if it has not converged (or cannot run), Newton from where it stopped with the
-/// iterations left. Returns both runs as one and the solver that finished.
+/// `auto` for arap and symmetric Dirichlet: the `first` solver (local–global or the
+/// Laplacian-preconditioned L-BFGS) for at most [`CHEAP_BUDGET`] iterations, then, if
+/// it has not converged (or stalled against the flip bound, or cannot run), Newton
+/// from where it stopped with the iterations left. Returns both runs as one and the
+/// solver that finished.
 fn run_with_handoff(
     objective: &Objective,
     first: SolverKind,
@@ -550,7 +552,7 @@ fn run_with_handoff(
     };
     let start = uv.to_vec();
     progress.begin("flatten", opts.max_iterations as u64);
-    // With no iterations left for Newton, local–global runs to its own end.
+    // With no iterations left for Newton, the first solver runs to its own end.
     let handoff = (budget < opts.max_iterations).then_some(budget);
     let run = if first == SolverKind::LocalGlobal {
         local_global::run(objective, pins[0], uv, &stop, handoff, progress)
