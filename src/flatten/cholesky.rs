@@ -22,7 +22,6 @@ pub(crate) struct Cholesky {
     factor: Vec<f64>,
     scratch: MemBuffer,
     factored: bool,
-    par: Par,
 }
 
 impl Cholesky {
@@ -67,9 +66,8 @@ impl Cholesky {
         let symbolic =
             factorize_symbolic_cholesky(pattern, Side::Lower, ordering, Default::default())
                 .map_err(|e| format!("the sparse analysis failed ({e:?})"))?;
-        let par = Par::rayon(0);
         let req = symbolic
-            .factorize_numeric_llt_scratch::<f64>(par, Default::default())
+            .factorize_numeric_llt_scratch::<f64>(Par::Seq, Default::default())
             .or(symbolic.solve_in_place_scratch::<f64>(2, Par::Seq));
         let scratch = MemBuffer::try_new(req)
             .map_err(|_| "not enough memory for the factorization".to_string())?;
@@ -79,7 +77,6 @@ impl Cholesky {
             factor,
             scratch,
             factored: false,
-            par,
         })
     }
 
@@ -112,6 +109,13 @@ impl Cholesky {
 
     /// Numeric factorization of the matrix with the analysed pattern and `values`;
     /// false when it is not numerically positive definite.
+    ///
+    /// Factorizations run on one thread: on this project's 2-core machine faer's
+    /// parallel supernodal factorization took 1.1-1.8 times as long at every size
+    /// measured (one factorization of the arap Newton matrix: 10k quads 0.017 s
+    /// against 0.025-0.032 s, 100k quads 0.27 s against 0.37-0.48 s, 1M quads 8.2 s
+    /// against 8.7 s; `bench_flatten -- --orderings`), and the per-face work around
+    /// it keeps both threads busy.
     pub fn factor(&mut self, col_ptr: &[usize], row_idx: &[usize], values: &[f64]) -> bool {
         let n = self.symbolic.nrows();
         let pattern = SymbolicSparseColMatRef::new_checked(n, n, col_ptr, None, row_idx);
@@ -123,7 +127,7 @@ impl Cholesky {
                 matrix,
                 Side::Lower,
                 LltRegularization::default(),
-                self.par,
+                Par::Seq,
                 MemStack::new(&mut self.scratch),
                 Default::default(),
             )
