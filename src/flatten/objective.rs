@@ -102,12 +102,13 @@ impl<'c, 'm> Objective<'c, 'm> {
     }
 
     /// `E(uv) − Σ_f A_f min ψ` with per-face gradients written to `grad` (2 per corner) and, when
-    /// given, projected per-face Hessians to `hess` (at [`hessian_offsets`]).
+    /// given, per-face Hessians to `hess` (at [`hessian_offsets`]), projected to
+    /// positive semi-definite when its flag is true.
     pub fn evaluate(
         &self,
         uv: &[[f64; 2]],
         grad: &mut [f64],
-        hess: Option<(&mut [f64], &[usize])>,
+        hess: Option<(&mut [f64], &[usize], bool)>,
     ) -> f64 {
         let offsets = self.chart.offsets();
         let grad_cuts: Vec<usize> = self
@@ -117,8 +118,9 @@ impl<'c, 'm> Objective<'c, 'm> {
             .chain(std::iter::once(2 * offsets[self.chart.face_count()]))
             .collect();
         let grad_parts = split_mut(grad, &grad_cuts);
+        let project = hess.as_ref().is_none_or(|h| h.2);
         let (hess_parts, hess_offsets): (Vec<Option<&mut [f64]>>, &[usize]) = match hess {
-            Some((buf, off)) => {
+            Some((buf, off, _)) => {
                 let cuts: Vec<usize> = self
                     .blocks
                     .iter()
@@ -144,9 +146,12 @@ impl<'c, 'm> Objective<'c, 'm> {
                     let view = self.chart.view(f);
                     s += view.excess(self.energy, &w);
                     let gr = 2 * offsets[f] - g0..2 * offsets[f + 1] - g0;
-                    let hs = h
-                        .as_deref_mut()
-                        .map(|h| (&mut h[hess_offsets[f] - h0..hess_offsets[f + 1] - h0], true));
+                    let hs = h.as_deref_mut().map(|h| {
+                        (
+                            &mut h[hess_offsets[f] - h0..hess_offsets[f + 1] - h0],
+                            project,
+                        )
+                    });
                     view.gradient_hessian(self.energy, &w, &mut g[gr], hs);
                 }
                 s
