@@ -61,7 +61,7 @@ impl PinnedLaplacian {
             col_ptr.push(row_idx.len());
         }
         let mut cholesky = timed(&mut clocks.setup, || {
-            Cholesky::analyse(free, &col_ptr, &row_idx)
+            Cholesky::analyse_for_solves(free, &col_ptr, &row_idx)
         })?;
         clocks.factorizations += 1;
         if free > 0
