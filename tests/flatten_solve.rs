@@ -292,9 +292,9 @@ fn auto_symmetric_dirichlet_finishes_with_newton_where_the_preconditioned_lbfgs_
     // As the pipeline runs it: default tolerance, least-squares conformal start. On a
     // gentle bump and a bump the Laplacian-preconditioned L-BFGS converges within its
     // budget (12 and 15 iterations, measured) and finishes; on a dome and a steep dome
-    // (Newton alone needs 14 and 21 steps) its rate of convergence says it would not,
+    // its rate of convergence says it would not,
     // so Newton finishes from where it stopped. Either way the energy is Newton's own
-    // to 1e-6 (measured: at most 7e-11) and no face flips; the preconditioned L-BFGS
+    // to 1e-6 (measured before Newton's unprojected end game: at most 7e-11) and no face flips; the preconditioned L-BFGS
     // alone gets there too, in 35 and 46 iterations on the domes (measured: within
     // 3e-9 of Newton).
     let run = |mesh: &PolyMesh, solver| as_pipeline(mesh, EnergyKind::SymmetricDirichlet, solver);
@@ -320,6 +320,50 @@ fn auto_symmetric_dirichlet_finishes_with_newton_where_the_preconditioned_lbfgs_
             );
         }
     }
+}
+
+#[test]
+fn newton_converges_quadratically_at_the_end_of_steep_charts() {
+    // Projected Newton clamps each face's negative curvature; near the minimum of a
+    // steep chart (compressed faces have a negative twist mode under symmetric
+    // Dirichlet) that leaves the model too stiff and the energy creeping down
+    // linearly. Newton now switches to the energy's own Hessian near the end. Measured
+    // on this chart before the switch, steps taken after coming within 1e-4 of the
+    // end: symmetric Dirichlet 16 of 21 (quads) and 6 of 15 (triangles), arap 29 of 44
+    // and 78 of 96. Now at most 4 (the last one is the stall that stops it; measured:
+    // quads symmetric Dirichlet 4 of 9), and the quads, whose nonlinear phase is
+    // shorter, take no more steps than the triangles.
+    let quads = bump(14, 0.2, 2.0, 6.0);
+    let mut steps = Vec::new();
+    for (case, mesh) in [
+        ("quads", quads.clone()),
+        ("triangles", triangulated(&quads)),
+    ] {
+        for energy in [EnergyKind::SymmetricDirichlet, EnergyKind::Arap] {
+            let s = as_pipeline(&mesh, energy, SolverKind::Newton);
+            assert_history(&format!("{case} {energy}"), &s);
+            let end = *s.history.last().unwrap();
+            let near = s
+                .history
+                .iter()
+                .position(|e| e - end <= 1e-4 * end)
+                .unwrap();
+            assert!(
+                s.iterations - near <= 4,
+                "{case} {energy}: {} steps after coming within 1e-4 at step {near}: {:?}",
+                s.iterations - near,
+                s.history
+            );
+            if energy == EnergyKind::SymmetricDirichlet {
+                assert_eq!(s.flipped_faces, 0, "{case}");
+                steps.push(s.iterations);
+            }
+        }
+    }
+    assert!(
+        steps[0] <= steps[1] && steps[0] <= 12,
+        "symmetric Dirichlet steps, quads then triangles: {steps:?}"
+    );
 }
 
 #[test]
