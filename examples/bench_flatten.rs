@@ -6,8 +6,7 @@
 //! compared).
 //!
 //! 0. Fill-reducing orderings of the Newton system on 10k and 100k quads and their
-//!    triangulations, quads and triangles run in turn; then quads over triangles
-//!    for `auto` and Newton. analysis time, factor size, multiply-adds, one factorization.
+//!    triangulations: analysis time, factor size, multiply-adds, one factorization.
 //!
 //! 1. Quads vs the same surface triangulated (each quad split in two), for arap and
 //!    symmetric-dirichlet with every solver: time per stage and final distortion.

@@ -292,9 +292,9 @@ fn auto_symmetric_dirichlet_finishes_with_newton_where_the_preconditioned_lbfgs_
     // As the pipeline runs it: default tolerance, least-squares conformal start. On a
     // gentle bump and a bump the Laplacian-preconditioned L-BFGS converges within its
     // budget (12 and 15 iterations, measured) and finishes; on a dome and a steep dome
-    // its rate of convergence says it would not,
-    // so Newton finishes from where it stopped. Either way the energy is Newton's own
-    // to 1e-6 (measured before Newton's unprojected end game: at most 7e-11) and no face flips; the preconditioned L-BFGS
+    // its rate of convergence says it would not, so Newton finishes from where it
+    // stopped. Either way the energy is Newton's own to 1e-6 (measured before Newton's
+    // unprojected end game: at most 7e-11) and no face flips; the preconditioned L-BFGS
     // alone gets there too, in 35 and 46 iterations on the domes (measured: within
     // 3e-9 of Newton).
     let run = |mesh: &PolyMesh, solver| as_pipeline(mesh, EnergyKind::SymmetricDirichlet, solver);

@@ -148,10 +148,11 @@ impl Cholesky {
     /// false when it is not numerically positive definite.
     ///
     /// Factorizations run on one thread: on this project's 2-core machine faer's
-    /// parallel supernodal factorization took 1.1-1.8 times as long at every size
+    /// parallel supernodal factorization took 1.06-1.8 times as long at every size
     /// measured (one factorization of the arap Newton matrix: 10k quads 0.017 s
     /// against 0.025-0.032 s, 100k quads 0.27 s against 0.37-0.48 s, 1M quads 8.2 s
-    /// against 8.7 s; `bench_flatten -- --orderings`), and the per-face work around
+    /// against 8.7 s; `bench_flatten -- --orderings` run with each setting, and a
+    /// 1M-quad factorization timed the same way), and the per-face work around
     /// it keeps both threads busy.
     pub fn factor(&mut self, col_ptr: &[usize], row_idx: &[usize], values: &[f64]) -> bool {
         let n = self.symbolic.nrows();

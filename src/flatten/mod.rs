@@ -203,7 +203,8 @@ pub struct ChartSolution {
 /// flip bound) is finished by Newton from where it stopped. On smooth charts the
 /// cheap solvers converge in 12–25 iterations, taking 0.44–1.04 of Newton's time
 /// from 1 600 faces up, and per-face work, which a quad mesh halves, is a larger
-/// share of their time than of Newton's. `conformal` is quadratic, so Newton finishes in one step.
+/// share of their time than of Newton's. `conformal` is quadratic, so Newton
+/// finishes in one step.
 pub fn auto_solver(energy: EnergyKind) -> SolverKind {
     match energy {
         EnergyKind::Arap => SolverKind::LocalGlobal,
